@@ -24,6 +24,7 @@ __all__ = [
     "evaluate_expression",
     "to_si",
     "kind_of",
+    "is_bare",
     "format_quantity",
 ]
 
@@ -59,6 +60,11 @@ class _Bare:
 
 def _is_angle_unit(name: str) -> bool:
     return name.endswith("radian") or name in _ANGLE_UNITS
+
+
+def is_bare(quantity: pint.Quantity) -> bool:
+    """True for a plain number: no unit at all (pint calls percent 'unitless' too, so check the units)."""
+    return not dict(quantity.unit_items())
 
 
 def kind_of(quantity: pint.Quantity) -> str:

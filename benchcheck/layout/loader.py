@@ -1,0 +1,499 @@
+"""Load a TOML layout (format 1) into a validated ``Layout`` in SI units.
+
+The file is data: values are read with tomllib and evaluated by our own expression
+reader (``benchcheck.units``); nothing in a layout can run code or import modules.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+import re
+import tomllib
+from collections.abc import Mapping
+from pathlib import Path
+from typing import Any
+
+from benchcheck.errors import LayoutError
+from benchcheck.layout.element_types import ElementType, builtin_element_types
+from benchcheck.layout.elements import (
+    NAME_PATTERN,
+    RawElement,
+    expand_relay,
+    read_element_fields,
+    read_tolerances,
+)
+from benchcheck.layout.locate import SourceMap
+from benchcheck.layout.model import (
+    MAIN_ARM,
+    DisplayUnits,
+    Element,
+    Layout,
+    MountClass,
+    Simulation,
+    Source,
+    Spec,
+    Tolerance,
+    Tolerancing,
+    frozen_mapping,
+)
+from benchcheck.layout.reader import Place, ValueReader
+from benchcheck.units import is_bare, kind_of, registry
+
+__all__ = ["load_layout", "parse_layout", "FORMAT", "TOP_LEVEL_TABLES", "MOUNT_COLLISION_DISTANCE"]
+
+FORMAT = 1
+TOP_LEVEL_TABLES = (
+    "format", "bench", "units", "params", "source", "element", "mounts", "spec", "tolerancing", "simulation",
+)
+#: Two elements closer than this along one arm may not both fit (common practice: a one-inch
+#: mount is about 10-15 mm thick, so 1 mm apart is certainly a collision).
+MOUNT_COLLISION_DISTANCE = 1e-3
+MAX_GRID = 16384
+MAX_TRIALS = 10_000_000
+SOURCE_DOFS = ("wavelength", "waist", "waist_z", "m2", "x", "y", "tilt_x", "tilt_y")
+
+
+def load_layout(
+    path: str | Path,
+    element_types: Mapping[str, ElementType] | None = None,
+    pattern_fields: Mapping[str, Mapping[str, str]] | None = None,
+) -> Layout:
+    """Read and validate a layout file.
+
+    Parameters
+    ----------
+    path : str or Path
+        The TOML file.
+    element_types : mapping, optional
+        Element types by name (first-party types when omitted; plugins add more).
+    pattern_fields : mapping, optional
+        Hologram patterns added by plugins: pattern name -> field name -> value kind.
+
+    Raises
+    ------
+    LayoutError
+        With the file, line, element and field of the first problem found.
+    """
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise LayoutError("no such file", file=str(path)) from None
+    except (OSError, UnicodeDecodeError) as error:
+        raise LayoutError(f"cannot read the file ({error})", file=str(path)) from None
+    return parse_layout(text, str(path), element_types, pattern_fields)
+
+
+def parse_layout(
+    text: str,
+    path: str = "<layout>",
+    element_types: Mapping[str, ElementType] | None = None,
+    pattern_fields: Mapping[str, Mapping[str, str]] | None = None,
+) -> Layout:
+    """Validate layout text; ``path`` is used in messages (see ``load_layout``)."""
+    try:
+        document = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as error:
+        message = str(error)
+        match = re.search(r"\(at line (\d+), column (\d+)\)", message)
+        line = int(match.group(1)) if match else None
+        reason = re.sub(r" \(at line.*", "", message)
+        raise LayoutError(f"not valid TOML: {reason}", file=path, line=line) from None
+    return _LayoutBuilder(text, path, document, element_types or builtin_element_types(), pattern_fields).build()
+
+
+class _LayoutBuilder:
+    def __init__(self, text, path, document, element_types, pattern_fields) -> None:
+        self.text = text
+        self.path = path
+        self.document = document
+        self.element_types = dict(element_types)
+        self.pattern_fields = pattern_fields
+        self.source_map = SourceMap(text)
+        self.reader = ValueReader(path, self.source_map)
+        self.warnings: list[str] = []
+
+    def error(self, place: Place, message: str, hint: str | None = None) -> LayoutError:
+        return self.reader.error(place, message, hint)
+
+    def build(self) -> Layout:
+        document = self.document
+        for key in document:
+            if key not in TOP_LEVEL_TABLES:
+                raise self.error(Place("", key=key), f"unknown table or key '{key}'",
+                                 hint="format 1 has: " + ", ".join(TOP_LEVEL_TABLES))
+        if "format" not in document:
+            raise self.error(Place(""), "the layout does not say its format", hint="add 'format = 1' at the top")
+        if document["format"] != FORMAT or isinstance(document["format"], bool):
+            raise self.error(Place("", key="format"), f"format {document['format']!r} is not supported",
+                             hint="this version reads format = 1")
+        display = self._units()
+        params = self._params()
+        bench = self._table("bench", required=True)
+        for key in bench:
+            if key not in ("title", "wavelength", "power"):
+                raise self.error(Place("bench", key=key), f"'{key}' is not a field of [bench]",
+                                 hint="valid fields: title, wavelength, power")
+        if "wavelength" not in bench:
+            raise self.error(Place("bench", key="wavelength"), "[bench] needs 'wavelength'")
+        wavelength = self.reader.quantity(bench["wavelength"], "length", Place("bench", key="wavelength"))
+        _require_positive(self, wavelength, Place("bench", key="wavelength"))
+        power = None
+        if "power" in bench:
+            power = self.reader.quantity(bench["power"], "power", Place("bench", key="power"))
+            _require_positive(self, power, Place("bench", key="power"))
+        title = self.reader.string(bench.get("title", ""), Place("bench", key="title"))
+        source = self._source(wavelength, power)
+        mounts = self._mounts()
+        elements, arms = self._elements(mounts)
+        specs = self._specs({element.name for element in elements})
+        tolerancing = self._tolerancing(elements)
+        simulation = self._simulation()
+        return Layout(
+            path=self.path,
+            title=title,
+            wavelength=wavelength,
+            source=source,
+            elements=tuple(elements),
+            power=power,
+            display=display,
+            params=frozen_mapping(params),
+            arms=frozen_mapping(arms),
+            specs=tuple(specs),
+            mounts=frozen_mapping(mounts),
+            tolerancing=tolerancing,
+            simulation=simulation,
+            warnings=tuple(self.warnings),
+            text_hash=hashlib.sha256(self.text.encode("utf-8")).hexdigest(),
+        )
+
+    # -- small tables ---------------------------------------------------------------------
+
+    def _table(self, name: str, required: bool = False) -> dict[str, Any]:
+        if name not in self.document:
+            if required:
+                raise self.error(Place(""), f"the layout has no [{name}] table")
+            return {}
+        value = self.document[name]
+        if not isinstance(value, dict):
+            raise self.error(Place("", key=name), f"'{name}' must be a table [{name}]")
+        return value
+
+    def _units(self) -> DisplayUnits:
+        table = self._table("units")
+        defaults: dict[str, str] = {}
+        for key, value in table.items():
+            place = Place("units", key=key)
+            if key not in ("length", "angle", "power"):
+                raise self.error(place, f"'{key}' is not a field of [units]", hint="valid fields: length, angle, power")
+            unit = self.reader.string(value, place)
+            try:
+                found = kind_of(registry.Quantity(1.0, unit))
+            except Exception:
+                raise self.error(place, f"'{unit}' is not a unit") from None
+            if found != key:
+                raise self.error(place, f"'{unit}' is not a unit of {key}")
+            defaults[key] = unit
+        self.reader.default_units = defaults
+        return DisplayUnits(length=defaults.get("length", "mm"), angle=defaults.get("angle", "mrad"))
+
+    def _params(self) -> dict[str, float]:
+        table = self._table("params")
+        quantities = {}
+        for key, value in table.items():
+            place = Place("params", key=key)
+            if not NAME_PATTERN.match(key):
+                raise self.error(place, f"'{key}' is not a valid name", hint="letters, digits, underscore")
+            quantity = self.reader.evaluate(value, place)
+            if is_bare(quantity):
+                # A bare number in [params] means what [units] says for lengths, if anything.
+                unit = self.reader.default_units.get("length")
+                if unit is not None and not isinstance(value, str):
+                    quantity = quantity * registry.Quantity(1.0, unit)
+            quantities[key] = quantity
+            self.reader.params = dict(quantities)
+        return {key: float(q.to_base_units().magnitude) for key, q in quantities.items()}
+
+    def _source(self, wavelength: float, power: float | None) -> Source:
+        table = self._table("source", required=True)
+        allowed = {"waist", "waist_z", "m2", "x", "y", "tilt_x", "tilt_y", "tolerance"}
+        for key in table:
+            if key not in allowed:
+                raise self.error(Place("source", key=key), f"'{key}' is not a field of [source]",
+                                 hint="valid fields: " + ", ".join(sorted(allowed)))
+        if "waist" not in table:
+            raise self.error(Place("source", key="waist"), "[source] needs 'waist' (the 1/e² radius)")
+        read = self.reader
+        waist = read.pair(table["waist"], "length", Place("source", key="waist"))
+        for value in waist:
+            _require_positive(self, value, Place("source", key="waist"))
+        waist_z = read.pair(table.get("waist_z", 0.0), "length", Place("source", key="waist_z")) \
+            if "waist_z" in table else (0.0, 0.0)
+        m2 = read.pair(table.get("m2", 1.0), "ratio", Place("source", key="m2")) if "m2" in table else (1.0, 1.0)
+        if min(m2) < 1.0:
+            raise self.error(Place("source", key="m2"), f"M² cannot be below 1, got {min(m2)}")
+        pose = [
+            read.quantity(table[key], "length" if key in ("x", "y") else "angle", Place("source", key=key))
+            if key in table else 0.0
+            for key in ("x", "y", "tilt_x", "tilt_y")
+        ]
+        tolerances: tuple[Tolerance, ...] = ()
+        if "tolerance" in table:
+            source_type = ElementType("source", {}, dofs=SOURCE_DOFS)
+            tolerances, _ = read_tolerances(read, table["tolerance"], source_type, Place("source", key="tolerance"))
+        return Source(
+            wavelength=wavelength, waist=waist, waist_z=waist_z, m2=m2, power=power,
+            x=pose[0], y=pose[1], tilt_x=pose[2], tilt_y=pose[3], tolerances=tolerances,
+            line=self.source_map.table_line("source"),
+        )
+
+    def _mounts(self) -> dict[str, MountClass]:
+        table = self._table("mounts")
+        mounts = {}
+        for name, entry in table.items():
+            place = Place(f"mounts.{name}")
+            if not isinstance(entry, dict):
+                raise self.error(Place("mounts", key=name), f"[mounts.{name}] must be a table")
+            holds: dict[str, float] = {}
+            rank = None
+            description = ""
+            for key, value in entry.items():
+                where = place.at(key)
+                if key == "rank":
+                    rank = self.reader.integer(value, where, minimum=0)
+                elif key == "description":
+                    description = self.reader.string(value, where)
+                elif key in ("z", "x", "y"):
+                    holds[key] = self.reader.quantity(value, "length", where)
+                elif key in ("tilt", "tilt_x", "tilt_y"):
+                    limit = self.reader.quantity(value, "angle", where)
+                    for axis in (("tilt_x", "tilt_y") if key == "tilt" else (key,)):
+                        holds[axis] = limit
+                else:
+                    raise self.error(where, f"'{key}' is not a field of a mount class",
+                                     hint="valid fields: rank, description, z, x, y, tilt, tilt_x, tilt_y")
+            if rank is None:
+                raise self.error(place.at("rank"), f"[mounts.{name}] needs 'rank' (0 = coarsest)")
+            mounts[name] = MountClass(name=name, rank=rank, holds=frozen_mapping(holds), description=description)
+        return mounts
+
+    # -- elements ---------------------------------------------------------------------------
+
+    def _elements(self, mounts: Mapping[str, MountClass]) -> tuple[list[Element], dict[str, str]]:
+        tables = self.document.get("element", [])
+        if not isinstance(tables, list):
+            raise self.error(Place("", key="element"), "elements are written as [[element]] tables")
+        raw_elements: list[RawElement] = []
+        names: dict[str, int] = {}
+        for index, table in enumerate(tables):
+            place = Place("element", index, None, index)
+            if not isinstance(table, dict):
+                raise self.error(place, "each [[element]] must be a table")
+            name = table.get("name")
+            if not isinstance(name, str) or not NAME_PATTERN.match(name):
+                raise self.error(place.at("name"),
+                                 "every element needs a 'name' of letters, digits and underscores"
+                                 + (f", got {name!r}" if name is not None else ""))
+            place = Place("element", index, name, index)
+            if name in names or name == "source":
+                raise self.error(place.at("name"), f"the name '{name}' is used twice"
+                                 if name != "source" else "'source' is reserved for the laser")
+            names[name] = index
+            type_name = table.get("type")
+            if type_name not in self.element_types:
+                raise self.error(place.at("type"), f"unknown element type {type_name!r}",
+                                 hint="known types: " + ", ".join(sorted(self.element_types)))
+            raw = read_element_fields(self.reader, table, index, self.element_types[type_name], name,
+                                      self.pattern_fields)
+            if raw.mount is not None and raw.mount not in mounts:
+                raise self.error(place.at("mount"), f"no mount class '{raw.mount}' in [mounts]",
+                                 hint="defined: " + (", ".join(sorted(mounts)) or "none"))
+            _check_type_rules(self, raw, place)
+            raw_elements.append(raw)
+        return _resolve_positions(self, raw_elements)
+
+    # -- specs, tolerancing, simulation ---------------------------------------------------
+
+    def _specs(self, plane_names: set[str]) -> list[Spec]:
+        tables = self.document.get("spec", [])
+        if not isinstance(tables, list):
+            raise self.error(Place("", key="spec"), "specs are written as [[spec]] tables")
+        specs = []
+        for index, table in enumerate(tables):
+            place = Place("spec", index, None, index)
+            if not isinstance(table, dict):
+                raise self.error(place, "each [[spec]] must be a table")
+            metric = self.reader.string(table.get("metric"), place.at("metric")) if "metric" in table else None
+            if not metric:
+                raise self.error(place.at("metric"), "a spec needs 'metric' (a registered metric name)")
+            if "at" not in table:
+                raise self.error(place.at("at"), "a spec needs 'at' (the plane it applies to)")
+            at = self.reader.string(table["at"], place.at("at"))
+            if at not in plane_names:
+                raise self.error(place.at("at"), f"no element or plane called '{at}'",
+                                 hint="elements: " + ", ".join(sorted(plane_names)))
+            if "min" not in table and "max" not in table:
+                raise self.error(place, f"the spec on '{metric}' needs 'min' or 'max'")
+            minimum = self.reader.si_value(table["min"], place.at("min")) if "min" in table else None
+            maximum = self.reader.si_value(table["max"], place.at("max")) if "max" in table else None
+            if minimum is not None and maximum is not None and minimum > maximum:
+                raise self.error(place.at("min"), f"min ({table['min']}) is above max ({table['max']})")
+            options = {
+                key: (self.reader.si_value(value, place.at(key)) if not isinstance(value, (bool, dict, list))
+                      else value)
+                for key, value in table.items() if key not in ("metric", "at", "min", "max", "name")
+            }
+            name = self.reader.string(table.get("name", ""), place.at("name")) if "name" in table else ""
+            specs.append(Spec(metric=metric, at=at, minimum=minimum, maximum=maximum, name=name, index=index,
+                              line=self.source_map.table_line("spec", index), options=frozen_mapping(options)))
+        return specs
+
+    def _tolerancing(self, elements: list[Element]) -> Tolerancing:
+        table = self._table("tolerancing")
+        place = Place("tolerancing")
+        allowed = {"trials", "seed", "sampler", "adjust", "yield_target", "defaults"}
+        for key in table:
+            if key not in allowed:
+                raise self.error(place.at(key), f"'{key}' is not a field of [tolerancing]",
+                                 hint="valid fields: " + ", ".join(sorted(allowed)))
+        read = self.reader
+        trials = read.integer(table.get("trials", 200), place.at("trials"), 1, MAX_TRIALS)
+        seed = read.integer(table.get("seed", 0), place.at("seed"), 0, 2**63 - 1)
+        sampler = read.choice(table.get("sampler", "random"), ("random", "sobol"), place.at("sampler"))
+        target = read.quantity(table.get("yield_target", 0.95), "ratio", place.at("yield_target"))
+        if not 0 < target <= 1:
+            raise self.error(place.at("yield_target"), f"must be between 0 and 1, got {target}")
+        adjust = read.strings(table.get("adjust", []), place.at("adjust"))
+        names = {element.name for element in elements} | {"source"}
+        for dof in adjust:
+            element_name, _, dof_name = dof.rpartition(".")
+            if element_name not in names or not dof_name:
+                raise self.error(place.at("adjust"), f"'{dof}' does not name an element's degree of freedom",
+                                 hint="write <element>.<dof>, for example cam.z")
+        defaults = {}
+        for type_name, entry in read.table(table.get("defaults", {}), place.at("defaults")).items():
+            if type_name not in self.element_types:
+                raise self.error(place.at(f"defaults.{type_name}"), f"unknown element type '{type_name}'")
+            defaults[type_name], _ = read_tolerances(read, entry, self.element_types[type_name],
+                                                     place.at(f"defaults.{type_name}"))
+        return Tolerancing(trials=trials, seed=seed, sampler=sampler, adjust=adjust, yield_target=target,
+                           defaults=frozen_mapping(defaults))
+
+    def _simulation(self) -> Simulation:
+        table = self._table("simulation")
+        place = Place("simulation")
+        grid = None
+        if "grid" in table:
+            grid = self.reader.integer(table["grid"], place.at("grid"), 16, MAX_GRID)
+        precision = self.reader.choice(table.get("precision", "single"), ("single", "double"), place.at("precision"))
+        options = {}
+        for key, value in table.items():
+            if key in ("grid", "precision"):
+                continue
+            if key not in ("samples_per_pixel", "replicas", "margin"):
+                raise self.error(place.at(key), f"'{key}' is not a field of [simulation]",
+                                 hint="valid fields: grid, precision, samples_per_pixel, replicas, margin")
+            options[key] = self.reader.number(value, place.at(key))
+        return Simulation(grid=grid, precision=precision, options=frozen_mapping(options))
+
+
+def _require_positive(builder: _LayoutBuilder, value: float, place: Place) -> None:
+    if not (value > 0 and math.isfinite(value)):
+        raise builder.error(place, f"must be positive and finite, got {value:g} (SI)")
+
+
+def _check_type_rules(builder: _LayoutBuilder, raw: RawElement, place: Place) -> None:
+    """Rules that tie fields of one element together."""
+    values = raw.values
+    for key in ("focal_length", "clear_aperture", "thickness", "diameter", "stop", "design_wavelength"):
+        if key in values and not (values[key] > 0 or (key == "focal_length" and values[key] < 0)):
+            raise builder.error(place.at(key), f"'{key}' must be {'non-zero' if key == 'focal_length' else 'positive'}")
+    if raw.type == "aperture":
+        if ("diameter" in values) == ("size" in values):
+            raise builder.error(place, "an aperture needs exactly one of 'diameter' or 'size'")
+        if "stop" in values and "diameter" in values and values["stop"] >= values["diameter"]:
+            raise builder.error(place.at("stop"), "the central stop is as large as the opening")
+    if raw.type == "relay":
+        f1, f2 = values["focal_lengths"]
+        if not (f1 > 0 and f2 > 0):
+            raise builder.error(place.at("focal_lengths"), "a 4f relay needs two positive focal lengths")
+    if raw.type in ("modulator", "camera"):
+        for pitch in values["pixel_pitch"]:
+            if not pitch > 0:
+                raise builder.error(place.at("pixel_pitch"), "the pixel pitch must be positive")
+    if raw.type == "modulator":
+        if not 0 < values["fill_factor"] <= 1:
+            raise builder.error(place.at("fill_factor"), f"must be in (0, 1], got {values['fill_factor']}")
+        if values["phase_levels"] < 2:
+            raise builder.error(place.at("phase_levels"), "a modulator needs at least 2 phase levels")
+    if raw.type == "camera" and not 1 <= values["bit_depth"] <= 32:
+        raise builder.error(place.at("bit_depth"), f"bit depth must be 1 to 32, got {values['bit_depth']}")
+    if raw.type == "splitter":
+        if not 0 <= values["ratio"] <= 1:
+            raise builder.error(place.at("ratio"), f"the split ratio must be in [0, 1], got {values['ratio']}")
+        for arm in values["arms"]:
+            if not NAME_PATTERN.match(arm) or arm == MAIN_ARM:
+                raise builder.error(place.at("arms"), f"'{arm}' cannot name an arm")
+    if raw.type == "mirror" and "radius" in values and values["radius"] == 0:
+        raise builder.error(place.at("radius"), "a mirror radius cannot be zero (use 'inf' for flat)")
+
+
+def _resolve_positions(builder: _LayoutBuilder, raw_elements: list[RawElement]) -> tuple[list[Element], dict[str, str]]:
+    """Turn z / after + gap into path positions, expand relays, and check order per arm."""
+    arms: dict[str, str] = {}
+    ends: dict[str, tuple[float, str]] = {}  # name -> (path position that 'after' counts from, arm)
+    elements: list[Element] = []
+    last_in_arm: dict[str, Element] = {}
+    for raw in raw_elements:
+        place = Place("element", raw.index, raw.name, raw.index)
+        arm = raw.arm or MAIN_ARM
+        if arm != MAIN_ARM and arm not in arms:
+            raise builder.error(place.at("arm"), f"no splitter before this element starts an arm '{arm}'",
+                                hint="declared arms: " + (", ".join(sorted(arms)) or "none"))
+        if raw.after is not None:
+            if raw.after not in ends:
+                raise builder.error(place.at("after"), f"'{raw.after}' is not an element defined above this one")
+            z = ends[raw.after][0] + raw.gap
+        else:
+            z = raw.z
+        if not math.isfinite(z) or z < 0:
+            raise builder.error(place.at("z" if raw.after is None else "gap"),
+                                f"the path position must be 0 or more, got {z * 1e3:g} mm")
+        if arm != MAIN_ARM:
+            splitter = elements[[e.name for e in elements].index(arms[arm])]
+            if z <= splitter.z:
+                raise builder.error(place.at("z"), f"the arm '{arm}' starts at the splitter '{splitter.name}' "
+                                    f"(z = {splitter.z * 1e3:g} mm); this element must come after it")
+        if raw.type == "relay":
+            new = [Element(arm=arm, **child) for child in expand_relay(raw, z)]
+            f1, f2 = raw.values["focal_lengths"]
+            ends[raw.name] = (z + 2 * f1 + 2 * f2, arm)
+        else:
+            new = [Element(name=raw.name, type=raw.type, index=raw.index, z=z, arm=arm,
+                           values=frozen_mapping(raw.values), x=raw.pose[0], y=raw.pose[1],
+                           tilt_x=raw.pose[2], tilt_y=raw.pose[3], mount=raw.mount,
+                           tolerances=raw.tolerances, line=raw.line)]
+            ends[raw.name] = (z, arm)
+        for element in new:
+            previous = last_in_arm.get(arm)
+            if previous is not None:
+                if element.z < previous.z:
+                    raise builder.error(place.at("z" if raw.after is None else "gap"),
+                                        f"'{element.name}' at z = {element.z * 1e3:g} mm comes before "
+                                        f"'{previous.name}' (z = {previous.z * 1e3:g} mm) on arm '{arm}'",
+                                        hint="list the elements of an arm in increasing z")
+                if element.z - previous.z < MOUNT_COLLISION_DISTANCE:
+                    builder.warnings.append(
+                        f"'{previous.name}' and '{element.name}' are {(element.z - previous.z) * 1e3:.3g} mm apart "
+                        "on the path: their mounts may collide (a one-inch mount is about 10-15 mm thick; "
+                        "common practice)"
+                    )
+            last_in_arm[arm] = element
+            elements.append(element)
+        if raw.type == "splitter":
+            for new_arm in raw.values["arms"]:
+                if new_arm in arms:
+                    raise builder.error(place.at("arms"), f"the arm '{new_arm}' is already started by '{arms[new_arm]}'")
+                arms[new_arm] = raw.name
+    return elements, arms

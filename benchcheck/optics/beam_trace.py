@@ -1,0 +1,204 @@
+"""The paraxial trace: a Gaussian beam and its chief ray through every plane of a bench.
+
+Per axis the beam is a complex q parameter (embedded-Gaussian M² model) carried by the
+ABCD law (Kogelnik and Li, Appl. Opt. 5, 1550, 1966) and a chief ray carried by the
+3x3 ABCDEF matrices (Siegman, Lasers, 1986, ch. 15). Clipping at each clear aperture is
+computed for the beam as it arrives; the cumulative transmission is reported.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from benchcheck.bench.graph import SOURCE, Bench
+from benchcheck.bench.realization import Realization
+from benchcheck.layout.model import MAIN_ARM, Layout
+from benchcheck.optics.element_actions import IncomingBeam, act
+from benchcheck.optics.gaussian import (
+    beam_radius,
+    distance_past_waist,
+    gouy_phase,
+    propagate_q,
+    q_at,
+    rayleigh_range,
+    waist_radius,
+    wavefront_radius,
+)
+from benchcheck.optics.matrices import free_space
+
+__all__ = ["PlaneBeam", "TraceResult", "trace_realization", "CLIPPING_NOTE_LEVEL"]
+
+#: A clear aperture that blocks more than this share of the arriving beam gets a note.
+CLIPPING_NOTE_LEVEL = 1e-4
+
+
+@dataclass(frozen=True)
+class PlaneBeam:
+    """The traced beam leaving one plane (SI units; tuples are (x, y)).
+
+    ``w`` is the 1/e² radius of the real beam; ``radius`` the wavefront radius (inf when
+    flat); ``waist``, ``waist_z`` the waist radius and its path position for the beam
+    leaving the plane; ``offset``, ``angle`` the chief ray's position and slope;
+    ``passed`` the share of arriving power this plane passes (clipping and splitting);
+    ``transmission`` the share of source power left after this plane.
+    """
+
+    name: str
+    arm: str
+    type: str
+    z: float
+    w: tuple[float, float]
+    radius: tuple[float, float]
+    waist: tuple[float, float]
+    waist_z: tuple[float, float]
+    rayleigh: tuple[float, float]
+    gouy: tuple[float, float]
+    offset: tuple[float, float]
+    angle: tuple[float, float]
+    passed: float
+    transmission: float
+    q: tuple[complex, complex] = field(repr=False, default=(0j, 0j))
+
+    def to_dict(self) -> dict:
+        """The plane as DESIGN.md section 6 writes it (SI, unit in the key)."""
+        return {
+            "name": self.name,
+            "arm": self.arm,
+            "z_m": self.z,
+            "w_m": list(self.w),
+            "radius_m": [None if math.isinf(r) else r for r in self.radius],
+            "waist_m": list(self.waist),
+            "waist_z_m": list(self.waist_z),
+            "offset_m": list(self.offset),
+            "angle_rad": list(self.angle),
+            "transmission": self.transmission,
+        }
+
+
+@dataclass(frozen=True)
+class TraceResult:
+    """The paraxial trace of one realization: every plane in trace order, and notes."""
+
+    layout: Layout
+    planes: tuple[PlaneBeam, ...]
+    notes: tuple[str, ...] = ()
+
+    def plane(self, name: str) -> PlaneBeam:
+        for plane in self.planes:
+            if plane.name == name:
+                return plane
+        raise KeyError(name)
+
+    def to_dict(self) -> dict:
+        """Equal to the JSON that ``benchcheck trace --json`` prints."""
+        return {"planes": [plane.to_dict() for plane in self.planes]}
+
+
+@dataclass
+class _AxisState:
+    q: complex
+    position: float
+    slope: float
+
+
+def _leaving(name, arm, kind, z, states, m2, wavelength, passed, transmission) -> PlaneBeam:
+    def per_axis(function):
+        return tuple(function(axis) for axis in (0, 1))
+
+    return PlaneBeam(
+        name=name,
+        arm=arm,
+        type=kind,
+        z=z,
+        w=per_axis(lambda a: beam_radius(states[a].q, wavelength, m2[a])),
+        radius=per_axis(lambda a: wavefront_radius(states[a].q)),
+        waist=per_axis(lambda a: waist_radius(states[a].q, wavelength, m2[a])),
+        waist_z=per_axis(lambda a: z - distance_past_waist(states[a].q)),
+        rayleigh=per_axis(lambda a: rayleigh_range(states[a].q)),
+        gouy=per_axis(lambda a: gouy_phase(states[a].q)),
+        offset=per_axis(lambda a: states[a].position),
+        angle=per_axis(lambda a: states[a].slope),
+        passed=passed,
+        transmission=transmission,
+        q=(states[0].q, states[1].q),
+    )
+
+
+def _through(state: _AxisState, matrix: np.ndarray) -> _AxisState:
+    position = matrix[0, 0] * state.position + matrix[0, 1] * state.slope + matrix[0, 2]
+    slope = matrix[1, 0] * state.position + matrix[1, 1] * state.slope + matrix[1, 2]
+    # + 0.0 turns a negative zero into zero, so tables and JSON do not show "-0".
+    return _AxisState(complex(propagate_q(state.q, matrix)), float(position) + 0.0, float(slope) + 0.0)
+
+
+def trace_realization(
+    realization: Realization,
+    plugin_matrices: Mapping[str, Callable] | None = None,
+) -> TraceResult:
+    """Trace the beam through every plane of a realization.
+
+    Parameters
+    ----------
+    realization : Realization
+        The bench with its perturbation (use an empty one for the nominal bench).
+    plugin_matrices : mapping, optional
+        Element type name -> ``f(element, wavelength) -> (matrix_x, matrix_y)`` for types
+        registered by plugins.
+
+    Returns
+    -------
+    TraceResult
+        The source plane, then every element in trace order.
+    """
+    bench: Bench = realization.bench
+    source = realization.source()
+    wavelength = source.wavelength
+    m2 = source.m2
+    start = [
+        _AxisState(q_at(source.waist[0], -source.waist_z[0], wavelength, m2[0]), source.x, source.tilt_y + 0.0),
+        _AxisState(q_at(source.waist[1], -source.waist_z[1], wavelength, m2[1]), source.y, -source.tilt_x + 0.0),
+    ]
+    planes = [_leaving(SOURCE, MAIN_ARM, "source", 0.0, start, m2, wavelength, 1.0, 1.0)]
+    notes: list[str] = []
+    # Output of each plane per arm: (z, states, transmission)
+    outputs: dict[tuple[str, str], tuple[float, list[_AxisState], float]] = {
+        (SOURCE, MAIN_ARM): (0.0, start, 1.0)
+    }
+    for name in bench.planes():
+        element = realization.element(name)
+        predecessor = next(iter(bench.graph.predecessors(name)))
+        z_before, states, transmission = outputs[(predecessor, element.arm)]
+        gap = free_space(element.z - z_before)
+        arriving = [_through(states[axis], gap) for axis in (0, 1)]
+        incoming = IncomingBeam(
+            w=tuple(beam_radius(arriving[axis].q, wavelength, m2[axis]) for axis in (0, 1)),
+            position=(arriving[0].position, arriving[1].position),
+            slope=(arriving[0].slope, arriving[1].slope),
+        )
+        plugin = (plugin_matrices or {}).get(element.type)
+        action = act(element, wavelength, incoming, plugin)
+        leaving = [_through(arriving[0], action.matrix_x), _through(arriving[1], action.matrix_y)]
+        blocked = _blocked_share(element, action.passed)
+        if blocked > CLIPPING_NOTE_LEVEL:
+            notes.append(f"{name}: the clear aperture blocks {blocked:.3%} of the arriving beam")
+        after = transmission * action.passed
+        planes.append(_leaving(name, element.arm, element.type, element.z, leaving, m2, wavelength,
+                               action.passed, after))
+        outputs[(name, element.arm)] = (element.z, leaving, after)
+        for arm, (matrix_x, matrix_y, passed) in (action.arm_matrices or {}).items():
+            branch = [_through(arriving[0], matrix_x), _through(arriving[1], matrix_y)]
+            outputs[(name, arm)] = (element.z, branch, transmission * passed)
+    return TraceResult(layout=bench.layout, planes=tuple(planes), notes=tuple(notes))
+
+
+def _blocked_share(element, passed: float) -> float:
+    """Share of the arriving beam blocked by clipping alone (a splitter's split is not a loss)."""
+    if element.type == "splitter":
+        ratio = element.value("ratio", 0.5)
+        return 1.0 - passed / (1.0 - ratio) if ratio < 1 else 0.0
+    return 1.0 - passed
+

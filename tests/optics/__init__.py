@@ -1,0 +1,1 @@
+"""Tests of the paraxial physics in benchcheck.optics."""
