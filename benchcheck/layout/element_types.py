@@ -224,6 +224,9 @@ def builtin_element_types() -> dict[str, ElementType]:
             {
                 "ratio": FieldSpec("ratio", default=0.5, help="share of the power sent into the arm"),
                 "arms": FieldSpec("strings", required=True, help="names of the arms it starts"),
+                "incidence": FieldSpec("angle", default=0.0, help="angle of incidence (the nominal fold of the arm)"),
+                "incidence_plane": FieldSpec("choice", default="xz", choices=("xz", "yz"),
+                                             help="plane of the fold: tangential axis x for 'xz'"),
                 "thickness": FieldSpec("length", help="plate thickness (thin when absent)"),
                 "index": _INDEX,
                 "clear_aperture": _CLEAR_APERTURE,

@@ -109,12 +109,15 @@ class ValueReader:
         """An SI float of the given kind (``length``, ``angle``, ``ratio``, ``power``...).
 
         A plain number (or an expression with no unit at all) takes the unit that
-        ``[units]`` gives for the kind; without one it is refused, except for ratios.
+        ``[units]`` gives for the kind; without one it is refused, except for ratios
+        and zero.
         """
         if allow_infinite and isinstance(raw, str) and raw.strip().lower() in _INFINITY_WORDS:
             return math.inf
         quantity = self.evaluate(raw, place)
         if kind != "ratio" and is_bare(quantity):
+            if quantity.magnitude == 0:
+                return 0.0  # zero needs no unit
             unit = self.default_units.get(kind)
             if unit is None:
                 raise self.error(

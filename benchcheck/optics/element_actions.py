@@ -190,13 +190,22 @@ def _modulator(element: Element, wavelength: float, beam: IncomingBeam) -> Actio
 
 
 def _splitter(element: Element, wavelength: float, beam: IncomingBeam) -> Action:
+    """A splitter plate: the nominal fold is ``incidence``; ``tilt_x``/``tilt_y`` are misalignment.
+
+    The transmitted beam crosses the plate at the fold angle plus the tilt in the fold
+    plane (lateral shift, astigmatism); the reflected arm turns by twice the tilt.
+    """
     thickness = element.value("thickness")
+    incidence = element.value("incidence", 0.0)
+    fold_in_yz = element.value("incidence_plane", "xz") == "yz"
     if thickness:
-        matrix_x, matrix_y = _plate_matrices(thickness, element.value("index", 1.5), element.tilt_x, element.tilt_y)
+        tilt_x = element.tilt_x - (incidence if fold_in_yz else 0.0)
+        tilt_y = element.tilt_y + (0.0 if fold_in_yz else incidence)
+        matrix_x, matrix_y = _plate_matrices(thickness, element.value("index", 1.5), tilt_x, tilt_y)
     else:
         matrix_x = matrix_y = _IDENTITY
     ratio = element.value("ratio", 0.5)
-    clear = _round_clear_aperture(element, beam)
+    clear = _round_clear_aperture(element, beam, _fold_axes(element))
     turn_x, turn_y = reflection_deviation(element.tilt_x, element.tilt_y)
     arms = {arm: (turn_x, turn_y, clear * ratio) for arm in element.value("arms", ())}
     return Action(matrix_x, matrix_y, clear * (1.0 - ratio), arm_matrices=arms)
