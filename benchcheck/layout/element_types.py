@@ -194,7 +194,8 @@ def builtin_element_types() -> dict[str, ElementType]:
             {
                 "pixel_pitch": FieldSpec("length", required=True, pair=True, help="pixel pitch"),
                 "pixels": FieldSpec("integer", required=True, pair=True, help="[columns, rows]"),
-                "fill_factor": FieldSpec("ratio", default=1.0, help="share of a pixel's width that is modulated"),
+                "fill_factor": FieldSpec("ratio", default=1.0,
+                                         help="share of a pixel's area that is modulated (datasheet fill factor)"),
                 "phase_levels": FieldSpec("integer", default=256, help="number of phase levels"),
                 "design_wavelength": FieldSpec("length", help="wavelength at which the stroke is 2π"),
                 "hologram": FieldSpec("table", help=_HOLOGRAM_HELP),

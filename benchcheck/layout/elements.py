@@ -240,8 +240,6 @@ def read_hologram(
             values[key] = _positive(reader, reader.number(value, where), where)
         elif kind == "string":
             values[key] = reader.string(value, where)
-        elif key == "size":
-            values[key] = reader.pair(value, "length", where)
         else:
             values[key] = reader.quantity(value, kind, where)
     return frozen_mapping(values)

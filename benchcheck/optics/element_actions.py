@@ -28,7 +28,15 @@ from benchcheck.optics.astigmatism import (
 from benchcheck.optics.clipping import annular_transmission, circular_transmission, rectangular_transmission
 from benchcheck.optics.matrices import compose, curved_mirror, free_space, mirror_tilt, misaligned, ray_matrix, thin_lens
 
-__all__ = ["Action", "IncomingBeam", "ACTIONS", "act", "hologram_deflection", "reflection_deviation"]
+__all__ = [
+    "Action",
+    "IncomingBeam",
+    "ACTIONS",
+    "act",
+    "wave_action",
+    "hologram_deflection",
+    "reflection_deviation",
+]
 
 _IDENTITY = ray_matrix(1.0, 0.0, 0.0, 1.0)
 
@@ -235,3 +243,12 @@ def act(element: Element, wavelength: float, beam: IncomingBeam, plugin_matrices
         raise ValueError(f"element type '{element.type}' has no paraxial model")
     matrix_x, matrix_y = plugin_matrices(element, wavelength)
     return Action(np.asarray(matrix_x, float), np.asarray(matrix_y, float), 1.0)
+
+
+def wave_action(element: Element, wavelength: float, beam: IncomingBeam, plugin_matrices=None) -> Action:
+    """The action of ``element`` on the wave path: as :func:`act`, except that a modulator's
+    hologram (carrier and lens) is left out, since the wave stages carry it in the field."""
+    if element.type == "modulator":
+        turn_x, turn_y = reflection_deviation(element.tilt_x, element.tilt_y)
+        return Action(turn_x, turn_y, 1.0)
+    return act(element, wavelength, beam, plugin_matrices)

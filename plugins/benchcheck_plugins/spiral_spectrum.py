@@ -1,0 +1,155 @@
+"""OAM purity: the weight of the intended charge in the spiral spectrum about the target axis.
+
+The field about an axis is expanded in angular harmonics (Torner, Torres and Carrasco,
+Opt. Express 13, 873 (2005)):
+
+    E(r, φ) = Σ_l a_l(r) exp(i l φ),   a_l(r) = (1/2π) ∫ E(r, φ) exp(−i l φ) dφ,
+    C_l = ∫ |a_l(r)|² r dr,            weight_l = C_l / Σ_m C_m.
+
+The field is interpolated on rings about the axis (cubic splines,
+``scipy.ndimage.map_coordinates``), the angular integral is an FFT along each ring
+(``scipy.fft``) and the radial one Simpson's rule
+(``scipy.integrate.simpson``) from the axis outwards. φ is measured from
++x towards +y, so exp(+i l φ) has charge +l.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import scipy.fft
+import scipy.integrate
+import scipy.ndimage
+
+from benchcheck.metrics import Metric, MetricContext, MetricUnavailable
+from benchcheck.wave.field import Field
+
+from benchcheck_plugins.inputs import double_values, field_of, float_option
+
+__all__ = ["spiral_spectrum", "oam_purity", "metrics"]
+
+_SOURCE = "spiral spectrum weight C_l/ΣC_m, Torner, Torres and Carrasco, Opt. Express 13, 873 (2005)"
+
+# Fewest rings across the beam and angular samples per ring: below these the spectrum is
+# not resolved at all.
+_MIN_RINGS = 8
+_MIN_ANGLES = 64
+# Light beyond the radius holding all but this fraction of the power (about the axis) is
+# left out of the rings: it changes no weight by more than this, and it saves sampling
+# empty window.
+_NEGLIGIBLE_POWER = 1e-10
+# Samples kept around the rings' reach when cropping: the cubic spline's prefilter couples
+# samples with a weight falling as 0.268^n, so 12 samples make the crop's edge invisible
+# (0.268^12 ≈ 1e-7).
+_CROP_MARGIN = 12
+
+
+def _lit_radius(intensity: np.ndarray, mesh, axis, outer: float, pitch: float) -> float:
+    """Radius about ``axis`` (at most ``outer``) holding all but a negligible share of power."""
+    x, y = mesh
+    distance = np.sqrt((x - axis[0]) ** 2 + (y - axis[1]) ** 2)
+    inside = distance <= outer
+    shells = np.bincount((distance[inside] / pitch).astype(np.int64), weights=intensity[inside])
+    enclosed = np.cumsum(shells)
+    if not enclosed[-1] > 0:
+        raise MetricUnavailable("the field carries no power within the rings about the axis")
+    last_lit = int(np.searchsorted(enclosed, (1 - _NEGLIGIBLE_POWER) * enclosed[-1]))
+    # Two shells more than the last lit one, and never fewer than the minimum ring count.
+    return min(outer, max((last_lit + 2) * pitch, _MIN_RINGS * pitch))
+
+
+def spiral_spectrum(
+    field: Field, axis: tuple[float, float], radius: float | None = None
+) -> tuple[np.ndarray, np.ndarray]:
+    """Spiral spectrum (OAM charge weights) of a field about an axis.
+
+    Parameters
+    ----------
+    field : Field
+        Sampled field.
+    axis : tuple of float
+        Axis position (x, y) in metres, in the grid's frame.
+    radius : float or None
+        Outer radius of the rings (m). None: the largest circle about the axis that stays in
+        the window. Power outside it is not counted. The rings also stop two samples past
+        the radius that holds all but 1e-10 of that power.
+
+    Returns
+    -------
+    charges : numpy.ndarray of int
+        Charges l, from −N/2 to N/2 − 1 (N angular samples).
+    weights : numpy.ndarray of float
+        C_l / Σ C_m for each charge (sum 1).
+
+    Raises
+    ------
+    MetricUnavailable
+        If the axis is outside the window or the rings cannot be sampled.
+    """
+    grid = field.grid
+    pitch_x, pitch_y = grid.pitch
+    pitch = min(pitch_x, pitch_y)
+    x, y = grid.x, grid.y
+    inside = min(axis[0] - x[0], x[-1] - axis[0], axis[1] - y[0], y[-1] - axis[1])
+    outer = inside if radius is None else min(radius, inside)
+    if not outer >= _MIN_RINGS * pitch:
+        raise MetricUnavailable(
+            f"the axis ({axis[0]:.4g}, {axis[1]:.4g}) m is outside the field window or within "
+            f"{_MIN_RINGS} samples of its edge"
+        )
+    values = double_values(field)
+    intensity = values.real**2 + values.imag**2
+    outer = _lit_radius(intensity, grid.mesh(), axis, outer, pitch)
+    # One ring per sample pitch, and one angular sample per pitch of the outer circumference:
+    # a field sampled at pitch p holds angular orders up to |l| ≈ π r / p at radius r, so
+    # 2π r / p samples per ring resolve them (Nyquist).
+    ring_count = int(math.ceil(outer / pitch))
+    angle_count = scipy.fft.next_fast_len(max(_MIN_ANGLES, int(math.ceil(2 * math.pi * outer / pitch))))
+    radii = np.linspace(0.0, outer, ring_count + 1)  # from the axis: l = 0 has light there
+    angles = 2 * math.pi * np.arange(angle_count) / angle_count
+    ring_x = axis[0] + radii[:, np.newaxis] * np.cos(angles)
+    ring_y = axis[1] + radii[:, np.newaxis] * np.sin(angles)
+    # Interpolate from a crop around the rings only (the spline prefilter costs per sample);
+    # the margin keeps the crop's edge out of reach of the spline's boundary handling.
+    first_col = max(0, int(math.floor((axis[0] - outer - x[0]) / pitch_x)) - _CROP_MARGIN)
+    last_col = min(grid.nx, int(math.ceil((axis[0] + outer - x[0]) / pitch_x)) + _CROP_MARGIN + 1)
+    first_row = max(0, int(math.floor((axis[1] - outer - y[0]) / pitch_y)) - _CROP_MARGIN)
+    last_row = min(grid.ny, int(math.ceil((axis[1] + outer - y[0]) / pitch_y)) + _CROP_MARGIN + 1)
+    crop = values[first_row:last_row, first_col:last_col]
+    # Fractional array indices into the crop: sample k sits at x[first_col] + k * pitch.
+    coordinates = np.stack([(ring_y - y[first_row]) / pitch_y, (ring_x - x[first_col]) / pitch_x])
+    on_rings = scipy.ndimage.map_coordinates(crop, coordinates, order=3, mode="nearest")
+    harmonics = scipy.fft.fft(on_rings, axis=1) / angle_count  # a_l(r) for each ring
+    ring_power = harmonics.real**2 + harmonics.imag**2
+    weights = scipy.integrate.simpson(ring_power * radii[:, np.newaxis], x=radii, axis=0)
+    total = weights.sum()
+    if not total > 0:
+        raise MetricUnavailable("the field carries no power within the rings about the axis")
+    charges = np.rint(scipy.fft.fftfreq(angle_count, 1.0 / angle_count)).astype(int)
+    order = np.argsort(charges)
+    return charges[order], weights[order] / total
+
+
+def oam_purity(context: MetricContext) -> float:
+    """Weight of the intended charge in the spiral spectrum about the target axis."""
+    if context.intended_charge is None:
+        raise MetricUnavailable("the hologram at this bench intends no OAM charge")
+    field = field_of(context)
+    radius = float_option(context, "roi_radius", None)
+    charges, weights = spiral_spectrum(field, context.axis, radius)
+    matches = np.flatnonzero(charges == int(context.intended_charge))
+    if matches.size == 0:
+        raise MetricUnavailable(
+            f"charge {context.intended_charge} is beyond what {charges.size} angular samples resolve"
+        )
+    return float(weights[matches[0]])
+
+
+def metrics() -> list[Metric]:
+    """The spiral spectrum family."""
+    return [
+        Metric("oam_purity", oam_purity, True, "",
+               "Weight of the intended OAM charge in the spiral spectrum about the target axis "
+               "(option roi_radius in m limits the rings).", _SOURCE),
+    ]
