@@ -106,6 +106,9 @@ class MetricContext:
         Ideal field at the plane on the same grid; None when the bench defines none.
     axis : tuple of float
         Target axis position (x, y) in metres, in the field grid's frame.
+    axis_angle : tuple of float
+        Slope (x, y) of the target axis in rad: a beam arriving along a tilted axis carries a
+        linear phase that metrics about the axis (spiral spectrum) take out first.
     source_power : float
         Source power in the field's units.
     incident_power : float or None
@@ -124,6 +127,7 @@ class MetricContext:
     field: Field | None = None
     target: Field | None = None
     axis: tuple[float, float] = (0.0, 0.0)
+    axis_angle: tuple[float, float] = (0.0, 0.0)
     source_power: float = 1.0
     incident_power: float | None = None
     losses: tuple[tuple[str, float], ...] = ()

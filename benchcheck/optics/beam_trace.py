@@ -44,7 +44,9 @@ class PlaneBeam:
     flat); ``waist``, ``waist_z`` the waist radius and its path position for the beam
     leaving the plane; ``offset``, ``angle`` the chief ray's position and slope;
     ``passed`` the share of arriving power this plane passes (clipping and splitting);
-    ``transmission`` the share of source power left after this plane.
+    ``transmission`` the share of source power left after this plane. ``q``, ``q_in``:
+    the q parameters (M² convention) leaving and arriving; ``offset_in``, ``angle_in``: the
+    chief ray arriving, before the element acts.
     """
 
     name: str
@@ -62,6 +64,9 @@ class PlaneBeam:
     passed: float
     transmission: float
     q: tuple[complex, complex] = field(repr=False, default=(0j, 0j))
+    q_in: tuple[complex, complex] = field(repr=False, default=(0j, 0j))
+    offset_in: tuple[float, float] = field(repr=False, default=(0.0, 0.0))
+    angle_in: tuple[float, float] = field(repr=False, default=(0.0, 0.0))
 
     def to_dict(self) -> dict:
         """The plane as DESIGN.md section 6 writes it (SI, unit in the key)."""
@@ -105,10 +110,11 @@ class _AxisState:
     slope: float
 
 
-def _leaving(name, arm, kind, z, states, m2, wavelength, passed, transmission) -> PlaneBeam:
+def _leaving(name, arm, kind, z, states, m2, wavelength, passed, transmission, arriving=None) -> PlaneBeam:
     def per_axis(function):
         return tuple(function(axis) for axis in (0, 1))
 
+    incoming = arriving or states
     return PlaneBeam(
         name=name,
         arm=arm,
@@ -125,6 +131,9 @@ def _leaving(name, arm, kind, z, states, m2, wavelength, passed, transmission) -
         passed=passed,
         transmission=transmission,
         q=(states[0].q, states[1].q),
+        q_in=per_axis(lambda a: incoming[a].q),
+        offset_in=per_axis(lambda a: incoming[a].position),
+        angle_in=per_axis(lambda a: incoming[a].slope),
     )
 
 
@@ -187,7 +196,7 @@ def trace_realization(
             notes.append(f"{name}: the clear aperture blocks {blocked:.3%} of the arriving beam")
         after = transmission * action.passed
         planes.append(_leaving(name, element.arm, element.type, element.z, leaving, m2, wavelength,
-                               action.passed, after))
+                               action.passed, after, arriving))
         outputs[(name, element.arm)] = (element.z, leaving, after)
         for arm, (matrix_x, matrix_y, passed) in (action.arm_matrices or {}).items():
             branch = [_through(arriving[0], matrix_x), _through(arriving[1], matrix_y)]

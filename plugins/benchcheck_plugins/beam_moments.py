@@ -13,14 +13,13 @@ ISO 11146 integration-area iteration is needed; light far out (stray orders) doe
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
-
-import numpy as np
 
 from benchcheck.metrics import Metric, MetricContext, MetricUnavailable
 from benchcheck.wave.field import Field
+from benchcheck.wave.moments import BeamMoments
+from benchcheck.wave.moments import beam_moments as _core_moments
 
-from benchcheck_plugins.inputs import double_values, field_of
+from benchcheck_plugins.inputs import field_of
 
 __all__ = [
     "BeamMoments",
@@ -36,50 +35,12 @@ __all__ = [
 _SOURCE = "second-moment (D4σ) widths and centroid, ISO 11146-1"
 
 
-@dataclass(frozen=True)
-class BeamMoments:
-    """Centroid (m) and second moments (m²) of an intensity distribution."""
-
-    centroid_x: float
-    centroid_y: float
-    variance_x: float
-    variance_y: float
-    covariance_xy: float
-
-    @property
-    def widths(self) -> tuple[float, float]:
-        """D4σ widths along x and y (m): 4σ (ISO 11146-1)."""
-        return 4.0 * math.sqrt(self.variance_x), 4.0 * math.sqrt(self.variance_y)
-
-    @property
-    def principal_widths(self) -> tuple[float, float]:
-        """D4σ widths along the principal axes (m), smaller first."""
-        matrix = np.array([[self.variance_x, self.covariance_xy],
-                           [self.covariance_xy, self.variance_y]])
-        smaller, larger = np.linalg.eigvalsh(matrix)
-        return 4.0 * math.sqrt(max(smaller, 0.0)), 4.0 * math.sqrt(max(larger, 0.0))
-
-
 def beam_moments(field: Field) -> BeamMoments:
-    """First and second moments of |E|² over the window (ISO 11146-1).
-
-    Sums are marginal projections (vector products), no loops over samples.
-    """
-    values = double_values(field)
-    intensity = values.real**2 + values.imag**2
-    total = intensity.sum()
-    if not total > 0:
-        raise MetricUnavailable("the field carries no power in the window")
-    x, y = field.grid.x, field.grid.y
-    profile_x = intensity.sum(axis=0)  # projection onto x
-    profile_y = intensity.sum(axis=1)
-    centroid_x = float(profile_x @ x / total)
-    centroid_y = float(profile_y @ y / total)
-    dx, dy = x - centroid_x, y - centroid_y
-    variance_x = float(profile_x @ dx**2 / total)
-    variance_y = float(profile_y @ dy**2 / total)
-    covariance_xy = float(dy @ (intensity @ dx) / total)
-    return BeamMoments(centroid_x, centroid_y, variance_x, variance_y, covariance_xy)
+    """The core's moments (ISO 11146-1); an empty window makes the metric unavailable."""
+    try:
+        return _core_moments(field)
+    except ValueError as error:
+        raise MetricUnavailable(str(error)) from None
 
 
 def d4sigma_x(context: MetricContext) -> float:

@@ -136,6 +136,14 @@ def oam_purity(context: MetricContext) -> float:
     if context.intended_charge is None:
         raise MetricUnavailable("the hologram at this bench intends no OAM charge")
     field = field_of(context)
+    slope_x, slope_y = context.axis_angle
+    if slope_x or slope_y:
+        # A beam arriving along a tilted axis carries exp(ik(sx x + sy y)); about its own axis
+        # the spiral spectrum is that of the field with this linear phase taken out.
+        wavenumber = 2 * math.pi / context.wavelength
+        ramp_x = np.exp(-1j * wavenumber * slope_x * (field.grid.x - context.axis[0]))
+        ramp_y = np.exp(-1j * wavenumber * slope_y * (field.grid.y - context.axis[1]))
+        field = field.replace(values=field.values * np.multiply.outer(ramp_y, ramp_x))
     radius = float_option(context, "roi_radius", None)
     charges, weights = spiral_spectrum(field, context.axis, radius)
     matches = np.flatnonzero(charges == int(context.intended_charge))

@@ -1,0 +1,26 @@
+"""Building an Evaluator for a layout with the plugins that are loaded."""
+
+from __future__ import annotations
+
+from benchcheck.evaluate.simulate import WaveSimulator
+from benchcheck.evaluate.trial import Evaluator
+from benchcheck.layout.model import Layout
+from benchcheck.metrics import MetricRegistry
+
+__all__ = ["make_evaluator", "metric_registry"]
+
+
+def metric_registry(plugin_manager=None) -> MetricRegistry:
+    """The registered metrics (plugins found through the ``benchcheck`` entry points by default)."""
+    if plugin_manager is None:
+        from benchcheck.plugin_manager import make_plugin_manager
+
+        plugin_manager = make_plugin_manager()
+    return MetricRegistry.from_plugin_manager(plugin_manager)
+
+
+def make_evaluator(layout: Layout, plugin_manager=None, registry: MetricRegistry | None = None) -> Evaluator:
+    """An Evaluator that traces every trial and simulates the wave when a spec needs it."""
+    evaluator = Evaluator(layout, registry or metric_registry(plugin_manager))
+    evaluator.simulate = WaveSimulator(layout, evaluator.nominal, evaluator.realization())
+    return evaluator

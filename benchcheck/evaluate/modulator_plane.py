@@ -1,0 +1,203 @@
+"""The field the modulator sends on: the incident beam times the displayed hologram.
+
+The simulation window is a square of whole pixels on the panel, centred on the pixel
+nearest the arriving beam, one sample per pixel. The hologram is computed for the nominal
+device (nominal pitch, the registration shift applied) and shown on the real one (real
+pitch, quantised, phase stroke set by the design wavelength); the pixel aperture and the
+dead space are applied analytically by the wave stage (``PixelCells``).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from benchcheck.errors import LayoutError
+from benchcheck.layout.model import Element, Layout
+from benchcheck.wave.beams import gaussian_field
+from benchcheck.wave.field import Field
+from benchcheck.wave.grid import Grid
+from benchcheck.wave.holograms import (
+    HologramPattern,
+    PixelCoordinates,
+    builtin_patterns,
+    compose_hologram,
+    grating_phase,
+    lens_phase,
+    validate_phase_map,
+)
+from benchcheck.wave.modulator import ModulatorDevice, displayed_modulation
+from benchcheck.wave.pixel_cells import PixelCells
+
+__all__ = ["ModulatorWindow", "modulator_window", "ideal_modulation", "intended_charge", "load_phase_map"]
+
+_HOLOGRAM_TERMS = ("pattern", "encoding", "carrier", "lens")
+
+
+@dataclass(frozen=True)
+class ModulatorWindow:
+    """The modulated field per pixel, its pixel model, and what the window covers."""
+
+    field: Field
+    cells: PixelCells
+    incident_power: float
+    coordinates: PixelCoordinates
+    on_panel: np.ndarray
+
+
+def _pattern_params(hologram: Mapping) -> dict:
+    return {key: value for key, value in hologram.items() if key not in _HOLOGRAM_TERMS}
+
+
+def load_phase_map(path_text: str, layout: Layout, element: Element) -> np.ndarray:
+    """Load a ``.npy`` phase map named by a layout, relative to the layout's folder.
+
+    A path outside the layout's folder is refused; the file is read without pickle.
+    """
+    folder = Path(layout.path).resolve().parent
+    path = (folder / path_text).resolve()
+    where = dict(file=layout.path, line=element.line, element=element.name, element_index=element.index,
+                 field="hologram.path")
+    if folder not in path.parents:
+        raise LayoutError(f"the phase map '{path_text}' is outside the layout's folder", **where)
+    try:
+        return np.load(path, allow_pickle=False)
+    except (OSError, ValueError) as error:
+        raise LayoutError(f"cannot read the phase map '{path_text}' ({error})", **where) from None
+
+
+def _window_coordinates(nominal: Element, real: Element, beam_position: tuple[float, float], size: int):
+    """Panel pixels of the window (indices from the panel centre) and which are on the panel."""
+    columns, rows = nominal.value("pixels")
+    pitch_real = real.value("pixel_pitch")
+    pitch_nominal = nominal.value("pixel_pitch")
+    shift = real.value("shift", (0.0, 0.0))
+    indices = []
+    for axis, count in enumerate((columns, rows)):
+        offset = (beam_position[axis] - (real.x if axis == 0 else real.y)) / pitch_real[axis]
+        centre = int(np.clip(round(offset), -(count // 2), count - 1 - count // 2))
+        indices.append(centre + np.arange(size) - size // 2)
+    ix = indices[0][np.newaxis, :]
+    iy = indices[1][:, np.newaxis]
+    on_panel = ((ix + columns // 2 >= 0) & (ix + columns // 2 < columns)) & \
+               ((iy + rows // 2 >= 0) & (iy + rows // 2 < rows))
+    coordinates = PixelCoordinates(ix, iy, ix * pitch_nominal[0] - shift[0], iy * pitch_nominal[1] - shift[1],
+                                   tuple(pitch_nominal))
+    return coordinates, on_panel
+
+
+def _hologram_phase(element: Element, coordinates: PixelCoordinates, design_wavelength: float,
+                    patterns: Mapping[str, HologramPattern], phase_map: np.ndarray | None) -> np.ndarray:
+    hologram = dict(element.value("hologram") or {"pattern": "none"})
+    params = _pattern_params(hologram)
+    if hologram["pattern"] == "file":
+        columns, rows = element.value("pixels")
+        full = validate_phase_map(phase_map, (columns, rows))
+        rows_index = np.clip(coordinates.iy[:, 0] + rows // 2, 0, rows - 1)
+        columns_index = np.clip(coordinates.ix[0, :] + columns // 2, 0, columns - 1)
+        params["phase_map"] = full[np.ix_(rows_index, columns_index)]
+    return compose_hologram(
+        hologram["pattern"], params, coordinates, design_wavelength,
+        encoding=hologram.get("encoding", "phase"), carrier=hologram.get("carrier"), lens=hologram.get("lens"),
+        patterns=patterns,
+    )
+
+
+def intended_charge(element: Element) -> int | None:
+    """The OAM charge a hologram intends (vortex charge, or l of an LG mode)."""
+    hologram = element.value("hologram") or {}
+    if hologram.get("pattern") == "vortex":
+        return int(hologram.get("charge", 0))
+    if hologram.get("pattern") == "lg":
+        return int(hologram.get("l", 0))
+    return None
+
+
+def ideal_modulation(element: Element, coordinates: PixelCoordinates, design_wavelength: float,
+                     patterns: Mapping[str, HologramPattern], phase_map: np.ndarray | None = None) -> np.ndarray:
+    """What the hologram asks for, on an ideal device: continuous phase, no pixels, exact stroke.
+
+    Phase patterns give exp(i(pattern + carrier + lens)); amplitude patterns (modes) give the
+    target amplitude times exp(i(carrier + lens)). This applied to the nominal incident beam
+    is the ideal shaped field that targets are made from.
+    """
+    hologram = dict(element.value("hologram") or {"pattern": "none"})
+    pattern = patterns[hologram["pattern"]]
+    params = {**pattern.defaults, **_pattern_params(hologram)}
+    if hologram["pattern"] == "file":
+        return np.exp(1j * _hologram_phase(element, coordinates, design_wavelength, patterns, phase_map))
+    output = pattern.build(coordinates, params, design_wavelength)
+    extra = np.zeros(coordinates.shape)
+    if "carrier" in hologram:
+        extra = extra + grating_phase(coordinates, hologram["carrier"]["period_px"], hologram["carrier"].get("angle", 0.0))
+    if hologram.get("lens"):
+        extra = extra + lens_phase(coordinates, hologram["lens"], design_wavelength)
+    if output.phase is not None:
+        return np.exp(1j * (np.asarray(output.phase) + extra))
+    return np.asarray(output.amplitude) * np.exp(1j * extra)
+
+
+def modulator_window(
+    nominal: Element,
+    real: Element,
+    layout: Layout,
+    arriving,
+    wavelength: float,
+    power: float,
+    size: int,
+    dtype,
+    replicas: int,
+    patterns: Mapping[str, HologramPattern] | None = None,
+    phase_map: np.ndarray | None = None,
+    ideal: bool = False,
+) -> ModulatorWindow:
+    """Sample the arriving beam on the panel's pixels and apply the displayed hologram.
+
+    Parameters
+    ----------
+    nominal, real : Element
+        The modulator as designed and as realised (pitch, shift, tilt, phase depth...).
+    arriving : object
+        The beam arriving at the modulator: ``q`` (x, y) of the coherent field, ``position``
+        and ``slope`` of the chief ray (m, rad).
+    power : float
+        Power of the arriving beam (field units).
+    size : int
+        Window size in pixels (square).
+    ideal : bool
+        Show the ideal modulation instead of the device's (for targets).
+    """
+    patterns = patterns or builtin_patterns()
+    pitch = real.value("pixel_pitch")
+    design_wavelength = nominal.value("design_wavelength") or layout.wavelength
+    coordinates, on_panel = _window_coordinates(nominal, real, arriving.position, size)
+    center = (real.x + float(coordinates.ix[0, size // 2]) * pitch[0],
+              real.y + float(coordinates.iy[size // 2, 0]) * pitch[1])
+    grid = Grid((size, size), pitch, center)
+    incident = gaussian_field(grid, wavelength, arriving.q[0], arriving.q[1], arriving.position, arriving.slope,
+                              power=power, dtype=dtype, plane=real.name)
+    incident_values = incident.values * on_panel
+    incident_power = float(np.vdot(incident_values.ravel(), incident_values.ravel()).real) * grid.sample_area
+    if ideal:
+        modulation = ideal_modulation(nominal, coordinates, design_wavelength, patterns, phase_map)
+    else:
+        phase = _hologram_phase(nominal, coordinates, design_wavelength, patterns, phase_map)
+        depth = real.value("phase_depth", 1.0)
+        device = ModulatorDevice(
+            pixel_pitch=pitch, pixels=(size, size), fill_factor=min(real.value("fill_factor", 1.0), 1.0),
+            phase_levels=real.value("phase_levels"), design_wavelength=design_wavelength * depth,
+            crosstalk=real.value("crosstalk", 0.0), dead_space=real.value("dead_space", "flat"),
+        )
+        modulation = displayed_modulation(device, phase, wavelength)
+    values = (incident_values * modulation).astype(dtype)
+    # The layout's fill factor is the datasheet's area share; the square aperture's width
+    # share per axis is its square root.
+    width_share = math.sqrt(min(real.value("fill_factor", 1.0), 1.0))
+    dead_space = "flat" if ideal else real.value("dead_space", "flat")
+    cells = PixelCells(pitch=pitch, fill_factor=(1.0, 1.0) if ideal else (width_share, width_share),
+                       background=incident_values.astype(dtype), dead_space=dead_space, replicas=replicas)
+    return ModulatorWindow(Field(values, grid, wavelength, real.name), cells, incident_power, coordinates, on_panel)

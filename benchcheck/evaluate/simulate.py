@@ -1,0 +1,294 @@
+"""The wave simulation of one realization: fields at every mask and observation plane.
+
+The wave starts at the first mask plane of each path with the Gaussian beam the paraxial
+trace brings there (size, curvature, offset, tilt), so upstream misalignment arrives as it
+would on the bench. Each stage between mask planes is crossed by the Collins integral
+(``benchcheck.wave.stages``); masks are applied where they stand; a camera records a frame.
+Targets (the ideal shaped field at each plane, for purity and wavefront metrics) are the
+hologram's ideal modulation of the nominal incident beam carried through the nominal
+stages, without masks, onto the same grids as the trial's fields.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from benchcheck.bench.realization import Realization
+from benchcheck.errors import SamplingError
+from benchcheck.evaluate.masks import aperture_mask
+from benchcheck.evaluate.modulator_plane import intended_charge, load_phase_map, modulator_window
+from benchcheck.evaluate.wave_path import (
+    OBSERVATION_TYPES,
+    arriving_beam,
+    mask_planes,
+    stage_between,
+)
+from benchcheck.layout.model import Layout
+from benchcheck.optics.beam_trace import TraceResult
+from benchcheck.wave.beams import gaussian_field
+from benchcheck.wave.camera import CameraDevice, CameraFrame, camera_frame
+from benchcheck.wave.field import Field
+from benchcheck.wave.grid import Grid
+from benchcheck.wave.holograms import builtin_patterns
+from benchcheck.wave.moments import beam_moments
+from benchcheck.wave.sampling import fast_size
+from benchcheck.wave.stages import propagate
+
+__all__ = ["PlaneResult", "SimulationResult", "WaveSimulator", "DEFAULT_WINDOW_RADII"]
+
+#: Half-width of an automatic window in 1/e² radii of the arriving beam: a Gaussian puts
+#: erfc(3·√2) ≈ 2e-9 of its power outside ±3 w along each axis.
+DEFAULT_WINDOW_RADII = 3.0
+_MIN_GRID = 256
+
+
+@dataclass(frozen=True)
+class PlaneResult:
+    """The wave at one plane: arriving field, field after its mask, target, camera frame."""
+
+    name: str
+    field: Field
+    passed: Field
+    target: Field | None
+    axis: tuple[float, float]
+    axis_angle: tuple[float, float] = (0.0, 0.0)
+    frame: CameraFrame | None = None
+    method: str = ""
+    notes: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class SimulationResult:
+    """Fields at the wave planes of one realization, with power bookkeeping."""
+
+    planes: Mapping[str, PlaneResult]
+    source_power: float
+    incident_power: float | None
+    losses: tuple[tuple[str, float], ...]
+    charge: int | None
+    notes: tuple[str, ...] = ()
+    faults: tuple[str, ...] = ()
+
+    def context_for(self, plane: str) -> dict:
+        """The wave part of a MetricContext at ``plane`` (empty when the plane has no field)."""
+        if plane not in self.planes:
+            return {}
+        result = self.planes[plane]
+        upstream = []
+        for name, blocked in self.losses:
+            upstream.append((name, blocked))
+            if name == plane:
+                break
+        return dict(field=result.field, target=result.target, axis=result.axis, axis_angle=result.axis_angle,
+                    incident_power=self.incident_power, losses=tuple(upstream), intended_charge=self.charge)
+
+    def plane_rows(self) -> list[dict]:
+        """Per plane: power (fraction of source power), D4σ widths and centroid (ISO 11146-1)."""
+        rows = []
+        for name, result in self.planes.items():
+            try:
+                moments = beam_moments(result.field)
+                widths, centroid = list(moments.widths), [moments.centroid_x, moments.centroid_y]
+            except ValueError:
+                widths, centroid = [None, None], [None, None]
+            rows.append({"name": name, "power": result.field.power / self.source_power,
+                         "d4sigma_m": widths, "centroid_m": centroid})
+        return rows
+
+
+@dataclass
+class WaveSimulator:
+    """Simulates realizations of one layout; built once per study (targets are cached)."""
+
+    layout: Layout
+    nominal_trace: TraceResult
+    nominal: Realization
+    patterns: Mapping = field(default_factory=builtin_patterns)
+    workers: int = -1
+    _targets: dict = field(default_factory=dict, init=False, repr=False)
+    _phase_map: np.ndarray | None = field(default=None, init=False, repr=False)
+
+    def __post_init__(self) -> None:
+        self.dtype = np.complex128 if self.layout.simulation.precision == "double" else np.complex64
+        self.source_power = self.layout.power or 1.0
+        for element in self.layout.elements:
+            hologram = element.value("hologram") or {}
+            if element.type == "modulator" and hologram.get("pattern") == "file":
+                self._phase_map = load_phase_map(hologram["path"], self.layout, element)
+        self.observations = [e.name for e in self.layout.elements if e.type in OBSERVATION_TYPES]
+
+    # -- public -------------------------------------------------------------------------------
+
+    def __call__(self, realization: Realization, trace: TraceResult) -> SimulationResult:
+        return self.simulate(realization, trace)
+
+    def simulate(self, realization: Realization, trace: TraceResult, with_targets: bool = True) -> SimulationResult:
+        planes: dict[str, PlaneResult] = {}
+        losses: list[tuple[str, float]] = []
+        notes: list[str] = []
+        state = {"incident_power": None, "charge": None}
+        for observation in self.observations:
+            self._run_path(realization, trace, observation, planes, losses, notes, state)
+        if with_targets:
+            planes = {name: self._with_target(result) for name, result in planes.items()}
+        faults = tuple(f"{name}: the field holds NaN or Inf" for name, result in planes.items()
+                       if not np.isfinite(result.field.values).all())
+        return SimulationResult(planes, self.source_power, state["incident_power"], tuple(losses),
+                                state["charge"], tuple(notes), faults)
+
+    # -- one path -----------------------------------------------------------------------------
+
+    def _run_path(self, realization, trace, observation, planes, losses, notes, state) -> None:
+        masks = mask_planes(realization, trace, observation)
+        current = None
+        cells = None
+        for index, name in enumerate(masks):
+            if name in planes:
+                current, cells = planes[name].passed, None
+                continue
+            element = realization.element(name)
+            if current is None:
+                arriving, cells = self._first_field(realization, trace, name, masks, state)
+                method, stage_notes = "start", ()
+                leaving_power = None
+            else:
+                stage = stage_between(realization, trace, masks[index - 1], name)
+                try:
+                    result = propagate(current, stage.matrix_x, stage.matrix_y, plane=name, cells=cells,
+                                       workers=self.workers)
+                except SamplingError as error:
+                    raise SamplingError(f"{error} (fix: a larger [simulation] grid, or check the layout "
+                                        f"around '{name}')") from None
+                arriving = result.field
+                leaving_power = (state["incident_power"] if cells is not None else current.power) * stage.amplitude**2
+                if stage.amplitude != 1.0:
+                    arriving = arriving.replace(values=arriving.values * np.float32(stage.amplitude))
+                method, stage_notes, cells = result.method, result.notes, None
+            passed = arriving
+            if element.type not in OBSERVATION_TYPES and element.type != "modulator":
+                mask = aperture_mask(element, arriving.grid).astype(arriving.values.real.dtype)
+                passed = arriving.replace(values=arriving.values * mask)
+                # Blocked here: all that left the previous plane and does not pass this mask,
+                # replica orders outside the window included (they land on the mask's plate).
+                leaving = leaving_power if leaving_power is not None else arriving.power
+                losses.append((name, max(leaving - passed.power, 0.0) / self.source_power))
+            frame = None
+            if element.type == "camera":
+                frame = camera_frame(arriving, _camera_device(element))
+            nominal = self.nominal_trace.plane(name)
+            planes[name] = PlaneResult(name, arriving, passed, None, nominal.offset_in, nominal.angle_in, frame,
+                                       method, tuple(stage_notes))
+            notes.extend(f"{name}: {note}" for note in stage_notes)
+            current = passed
+
+    def _first_field(self, realization, trace, name, masks, state, ideal=False):
+        """The field at the first mask plane of a path, and the pixel cells if it is a modulator."""
+        element = realization.element(name)
+        source = realization.source()
+        arriving = arriving_beam(trace, name, realization.wavelength, source.m2)
+        power = self.source_power * _transmission_before(trace, realization, name)
+        size = self.layout.simulation.grid
+        if element.type == "modulator":
+            pitch = element.value("pixel_pitch")
+            size = size or _auto_size(arriving.w, pitch)
+            replicas = self._replicas(realization, trace, masks, name)
+            window = modulator_window(
+                realization.bench.element(name), element, self.layout, arriving, realization.wavelength, power,
+                size, self.dtype, replicas, self.patterns, self._phase_map, ideal=ideal,
+            )
+            state["incident_power"] = window.incident_power
+            state["charge"] = intended_charge(element)
+            return window.field, window.cells
+        reach = max(arriving.w) * DEFAULT_WINDOW_RADII
+        if element.type == "aperture" and element.value("diameter") is not None:
+            reach = max(reach, 0.625 * element.value("diameter"))
+        size = size or _MIN_GRID * 2
+        pitch = 2 * reach / size
+        center = arriving.position
+        grid = Grid((size, size), (pitch, pitch), center)
+        return gaussian_field(grid, realization.wavelength, arriving.q[0], arriving.q[1], arriving.position,
+                              arriving.slope, power=power, dtype=self.dtype, plane=name), None
+
+    def _replicas(self, realization, trace, masks, name) -> int:
+        """Replica periods of the pixel spectrum the next mask can pass (0 or 1)."""
+        index = masks.index(name)
+        if index + 1 >= len(masks):
+            return 0
+        following = realization.element(masks[index + 1])
+        stage = stage_between(realization, trace, name, following.name)
+        pitch = min(realization.element(name).value("pixel_pitch"))
+        half_period = realization.wavelength * abs(stage.matrix_x[0, 1]) / (2 * pitch)
+        if following.type == "aperture":
+            center = following.value("center", (0.0, 0.0))
+            opening = (following.value("diameter") or max(following.value("size"))) / 2
+            reach = math.hypot(center[0] + following.x, center[1] + following.y) + opening
+        elif following.type == "camera":
+            columns, rows = following.value("pixels")
+            reach = max(columns * following.value("pixel_pitch")[0], rows * following.value("pixel_pitch")[1]) / 2
+        elif following.value("size") is not None:
+            reach = max(following.value("size")) / 2
+        else:
+            return 0
+        return 1 if reach > half_period else 0
+
+    # -- targets ------------------------------------------------------------------------------
+
+    def _with_target(self, result: PlaneResult) -> PlaneResult:
+        key = (result.name, result.field.grid)
+        if key not in self._targets:
+            self._targets[key] = self._target(result.name, result.field.grid)
+        return dataclasses.replace(result, target=self._targets[key])
+
+    def _target(self, plane: str, grid: Grid) -> Field | None:
+        """The ideal field at ``plane`` on ``grid``: ideal hologram, nominal stages, no masks."""
+        realization, trace = self.nominal, self.nominal_trace
+        observation = next((o for o in self.observations if plane in realization.bench.path_to(o)), None)
+        if observation is None:
+            return None
+        masks = mask_planes(realization, trace, observation)
+        masks = masks[: masks.index(plane) + 1]
+        field_now, _ = self._first_field(realization, trace, masks[0], masks, {}, ideal=True)
+        for previous, name in zip(masks, masks[1:]):
+            stage = stage_between(realization, trace, previous, name)
+            output = grid if name == plane else None
+            try:
+                field_now = propagate(field_now, stage.matrix_x, stage.matrix_y, output_grid=output, plane=name,
+                                      workers=self.workers).field
+            except SamplingError:
+                return None
+        if field_now.grid != grid:
+            return None
+        return field_now
+
+
+def _transmission_before(trace: TraceResult, realization: Realization, name: str) -> float:
+    predecessor = next(iter(realization.bench.graph.predecessors(name)))
+    plane = trace.plane(predecessor)
+    element = realization.element(name)
+    if plane.type == "splitter" and element.arm != plane.arm:
+        ratio = realization.element(predecessor).value("ratio", 0.5)
+        return plane.transmission / max(1.0 - ratio, 1e-300) * ratio
+    return plane.transmission
+
+
+def _auto_size(w: tuple[float, float], pitch: tuple[float, float]) -> int:
+    """Pixels across a window of ±DEFAULT_WINDOW_RADII beam radii, FFT-friendly."""
+    needed = max(2 * DEFAULT_WINDOW_RADII * w[axis] / pitch[axis] for axis in (0, 1))
+    return fast_size(max(_MIN_GRID, int(math.ceil(needed))))
+
+
+def _camera_device(element) -> CameraDevice:
+    exposure = element.value("exposure", "auto")
+    if exposure != "auto":
+        try:
+            exposure = float(exposure)
+        except ValueError:
+            exposure = "auto"
+    return CameraDevice(pixel_pitch=element.value("pixel_pitch"), pixels=element.value("pixels"),
+                        bit_depth=min(element.value("bit_depth", 12), 16), exposure=exposure,
+                        center=(element.x, element.y))
