@@ -1,8 +1,12 @@
-"""Transmission masks of apertures and clear apertures on a sampling grid.
+"""Amplitude transmission masks of apertures and clear apertures on a sampling grid.
 
 Edges are area-weighted over one sample (a linear ramp of the signed distance to the edge,
 in samples), so a small decentre of an iris changes the passed power smoothly instead of
-by whole samples; this keeps threshold searches on iris position continuous.
+by whole samples; this keeps threshold searches on iris position continuous. The ramp is
+the open share of a sample's area: the amplitude mask is its square root, so the power a
+sample passes is its intensity times the open area (an amplitude of the open share would
+count edge samples' power by its square, under-counting the passed power by ~1 % for an
+iris 30 samples across).
 """
 
 from __future__ import annotations
@@ -15,21 +19,22 @@ from benchcheck.wave.grid import Grid
 __all__ = ["aperture_mask", "round_mask", "rectangle_mask"]
 
 
-def _ramp(distance_inside: np.ndarray, pitch: float) -> np.ndarray:
+def _open_share(distance_inside: np.ndarray, pitch: float) -> np.ndarray:
+    """Share of a sample's area inside the edge (linear in the signed distance)."""
     return np.clip(0.5 + distance_inside / pitch, 0.0, 1.0)
 
 
 def round_mask(grid: Grid, radius: float, center: tuple[float, float]) -> np.ndarray:
-    """Transmission (0..1) of a disc of ``radius`` (m) centred at ``center`` (m)."""
+    """Amplitude transmission (0..1) of a disc of ``radius`` (m) centred at ``center`` (m)."""
     x, y = grid.mesh()
     distance = np.hypot(x - center[0], y - center[1])
-    return _ramp(radius - distance, min(grid.pitch))
+    return np.sqrt(_open_share(radius - distance, min(grid.pitch)))
 
 
 def rectangle_mask(grid: Grid, half_widths: tuple[float, float], center: tuple[float, float]) -> np.ndarray:
     """Transmission of a rectangle, separable: an outer product of two 1-D ramps."""
-    along_x = _ramp(half_widths[0] - np.abs(grid.x - center[0]), grid.pitch[0])
-    along_y = _ramp(half_widths[1] - np.abs(grid.y - center[1]), grid.pitch[1])
+    along_x = np.sqrt(_open_share(half_widths[0] - np.abs(grid.x - center[0]), grid.pitch[0]))
+    along_y = np.sqrt(_open_share(half_widths[1] - np.abs(grid.y - center[1]), grid.pitch[1]))
     return np.multiply.outer(along_y, along_x)
 
 
@@ -43,6 +48,7 @@ def aperture_mask(element: Element, grid: Grid) -> np.ndarray:
             return rectangle_mask(grid, (width / 2, height / 2), center)
         mask = round_mask(grid, element.value("diameter") / 2, center)
         if element.value("stop") is not None:
-            mask = mask * (1.0 - round_mask(grid, element.value("stop") / 2, center))
+            blocked = round_mask(grid, element.value("stop") / 2, center) ** 2
+            mask = np.sqrt(np.clip(mask**2 - blocked, 0.0, 1.0))
         return mask
     return round_mask(grid, element.value("clear_aperture") / 2, (element.x, element.y))

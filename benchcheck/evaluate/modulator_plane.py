@@ -9,6 +9,7 @@ dead space are applied analytically by the wave stage (``PixelCells``).
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass
@@ -22,6 +23,7 @@ from benchcheck.wave.beams import gaussian_field
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.holograms import (
+    HologramOutput,
     HologramPattern,
     PixelCoordinates,
     builtin_patterns,
@@ -35,7 +37,7 @@ from benchcheck.wave.pixel_cells import PixelCells
 
 __all__ = ["ModulatorWindow", "modulator_window", "ideal_modulation", "intended_charge", "load_phase_map"]
 
-_HOLOGRAM_TERMS = ("pattern", "encoding", "carrier", "lens")
+_HOLOGRAM_TERMS = ("pattern", "encoding", "carrier", "lens", "compensate_input")
 
 
 @dataclass(frozen=True)
@@ -88,6 +90,39 @@ def _window_coordinates(nominal: Element, real: Element, beam_position: tuple[fl
     coordinates = PixelCoordinates(ix, iy, ix * pitch_nominal[0] - shift[0], iy * pitch_nominal[1] - shift[1],
                                    tuple(pitch_nominal))
     return coordinates, on_panel
+
+
+def compensated_patterns(patterns: Mapping[str, HologramPattern], hologram: Mapping,
+                         design_beam) -> Mapping[str, HologramPattern]:
+    """Patterns in which an amplitude target is divided by the design incident beam.
+
+    With ``compensate_input = true`` a mode hologram asks for target / incident (peak
+    scaled to 1), so the light leaving the modulator is the target mode itself rather than
+    the mode times the incident Gaussian (the usual way to make a clean mode with a
+    complex-amplitude encoding; Bolduc et al., Opt. Lett. 38, 3546, 2013).
+    """
+    name = hologram.get("pattern")
+    if not hologram.get("compensate_input") or design_beam is None or name not in patterns:
+        return patterns
+    original = patterns[name]
+
+    def build(coordinates, params, wavelength):
+        output = original.build(coordinates, params, wavelength)
+        if output.amplitude is None:
+            return output
+        incident = _design_amplitude(coordinates, design_beam, wavelength)
+        ratio = np.asarray(output.amplitude) / np.maximum(incident, 1e-3)
+        peak = np.max(np.abs(ratio))
+        return HologramOutput(amplitude=ratio / peak if peak > 0 else ratio)
+
+    return {**patterns, name: dataclasses.replace(original, build=build)}
+
+
+def _design_amplitude(coordinates: PixelCoordinates, design_beam, wavelength: float) -> np.ndarray:
+    """|E| of the design beam at the pixels, peak 1 (Gaussian with the traced radii)."""
+    w_x, w_y = design_beam.w
+    center_x, center_y = design_beam.center
+    return np.exp(-((coordinates.x - center_x) / w_x) ** 2 - ((coordinates.y - center_y) / w_y) ** 2)
 
 
 def _hologram_phase(element: Element, coordinates: PixelCoordinates, design_wavelength: float,
@@ -154,6 +189,7 @@ def modulator_window(
     patterns: Mapping[str, HologramPattern] | None = None,
     phase_map: np.ndarray | None = None,
     ideal: bool = False,
+    design_beam=None,
 ) -> ModulatorWindow:
     """Sample the arriving beam on the panel's pixels and apply the displayed hologram.
 
@@ -170,8 +206,11 @@ def modulator_window(
         Window size in pixels (square).
     ideal : bool
         Show the ideal modulation instead of the device's (for targets).
+    design_beam : object, optional
+        The nominal arriving beam (``w``, ``center`` on the panel's pattern frame), for
+        holograms that compensate the incident beam.
     """
-    patterns = patterns or builtin_patterns()
+    patterns = compensated_patterns(patterns or builtin_patterns(), nominal.value("hologram") or {}, design_beam)
     pitch = real.value("pixel_pitch")
     design_wavelength = nominal.value("design_wavelength") or layout.wavelength
     coordinates, on_panel = _window_coordinates(nominal, real, arriving.position, size)

@@ -88,17 +88,26 @@ class SimulationResult:
                     incident_power=self.incident_power, losses=tuple(upstream), intended_charge=self.charge)
 
     def plane_rows(self) -> list[dict]:
-        """Per plane: power (fraction of source power), D4σ widths and centroid (ISO 11146-1)."""
+        """Per plane, for the light leaving it (after its mask, as the trace's transmission):
+        power (fraction of source power), D4σ widths and centroid (ISO 11146-1)."""
         rows = []
         for name, result in self.planes.items():
             try:
-                moments = beam_moments(result.field)
+                moments = beam_moments(result.passed)
                 widths, centroid = list(moments.widths), [moments.centroid_x, moments.centroid_y]
             except ValueError:
                 widths, centroid = [None, None], [None, None]
-            rows.append({"name": name, "power": result.field.power / self.source_power,
+            rows.append({"name": name, "power": result.passed.power / self.source_power,
                          "d4sigma_m": widths, "centroid_m": centroid})
         return rows
+
+
+@dataclass(frozen=True)
+class DesignBeam:
+    """The nominal beam on the modulator, in the hologram's frame (for compensating holograms)."""
+
+    w: tuple[float, float]
+    center: tuple[float, float]
 
 
 @dataclass
@@ -197,9 +206,13 @@ class WaveSimulator:
             pitch = element.value("pixel_pitch")
             size = size or _auto_size(arriving.w, pitch)
             replicas = self._replicas(realization, trace, masks, name)
+            nominal_element = realization.bench.element(name)
+            design = arriving_beam(self.nominal_trace, name, self.layout.wavelength, self.layout.source.m2)
+            design_beam = DesignBeam(design.w, (design.position[0] - nominal_element.x,
+                                                design.position[1] - nominal_element.y))
             window = modulator_window(
-                realization.bench.element(name), element, self.layout, arriving, realization.wavelength, power,
-                size, self.dtype, replicas, self.patterns, self._phase_map, ideal=ideal,
+                nominal_element, element, self.layout, arriving, realization.wavelength, power,
+                size, self.dtype, replicas, self.patterns, self._phase_map, ideal=ideal, design_beam=design_beam,
             )
             state["incident_power"] = window.incident_power
             state["charge"] = intended_charge(element)

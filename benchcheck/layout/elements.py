@@ -44,6 +44,7 @@ HOLOGRAM_FIELDS: Mapping[str, str] = {
     "encoding": "string",
     "carrier": "table",
     "lens": "length",
+    "compensate_input": "bool",
 }
 FIRST_PARTY_PATTERNS = ("none", "grating", "vortex", "lg", "hg", "flat_top", "axicon", "lens", "file")
 ENCODINGS = ("phase", "complex", "arrizon3", "bolduc", "davis")
@@ -240,6 +241,10 @@ def read_hologram(
             values[key] = _positive(reader, reader.number(value, where), where)
         elif kind == "string":
             values[key] = reader.string(value, where)
+        elif kind == "bool":
+            if not isinstance(value, bool):
+                raise reader.error(where, "expected true or false")
+            values[key] = value
         else:
             values[key] = reader.quantity(value, kind, where)
     return frozen_mapping(values)

@@ -56,6 +56,8 @@ def _hologram_schema() -> dict[str, Any]:
             properties[key] = {"type": "integer"}
         elif kind == "string":
             properties[key] = {"type": "string"}
+        elif kind == "bool":
+            properties[key] = {"type": "boolean"}
         elif kind == "table":
             properties[key] = {"type": "object", "properties": {"period_px": _QUANTITY, "angle": _QUANTITY},
                                "required": ["period_px"], "additionalProperties": False}
