@@ -33,6 +33,7 @@ _COMMAND_MODULES = (
     "benchcheck.cli.trace_command",
     "benchcheck.cli.simulate_command",
     "benchcheck.cli.tolerance_command",
+    "benchcheck.cli.mounts_command",
     "benchcheck.cli.schema_command",
     "benchcheck.cli.plugins_command",
 )

@@ -63,6 +63,10 @@ def run(args, context) -> int:
             result = "pass" if outcome.passed else f"FAIL{': ' + outcome.error if outcome.error else ''}"
             specs.add_row(outcome.spec.label, value, bound + " (SI)", result)
         context.console.print(specs)
+    frames = [f"{name}: exposure scale {result.frame.scale:.4g} counts per W/m², peak "
+              f"{int(result.frame.counts.max())} counts, {result.frame.saturated_fraction:.2%} of pixels saturated"
+              for name, result in report.simulation.planes.items() if result.frame is not None]
+    print_notes(context.console, frames, "camera frames")
     losses = [f"{plane}: blocks {blocked:.3%} of the source power" for plane, blocked in report.simulation.losses]
     print_notes(context.console, losses, "light blocked by irises and stops")
     print_notes(context.console, report.simulation.notes, "sampling notes")

@@ -59,8 +59,21 @@ def run(args, context) -> int:
     context.console.print(table)
     print_notes(context.console, layout.warnings, "warnings")
     print_notes(context.console, result.notes, "clipping")
+    print_notes(context.console, _zero_order_notes(result, length), "zero order (not followed by the trace)")
     print_safety(context.console)
     return 0
+
+
+def _zero_order_notes(result, length: str) -> list[str]:
+    notes = []
+    for plane in result.planes:
+        if plane.zero_order_offset is not None and plane.type in ("aperture", "camera", "plane"):
+            separation = math.hypot(plane.zero_order_offset[0] - plane.offset[0],
+                                    plane.zero_order_offset[1] - plane.offset[1])
+            notes.append(f"{plane.name}: zero order at ({show(plane.zero_order_offset[0], length)}, "
+                         f"{show(plane.zero_order_offset[1], length)}) {length}, "
+                         f"{show(separation, length)} {length} from the wanted order")
+    return notes
 
 
 def _clipped(plane) -> str:

@@ -11,6 +11,8 @@ iris 30 samples across).
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 
 from benchcheck.layout.model import Element
@@ -24,11 +26,14 @@ def _open_share(distance_inside: np.ndarray, pitch: float) -> np.ndarray:
     return np.clip(0.5 + distance_inside / pitch, 0.0, 1.0)
 
 
+@functools.lru_cache(maxsize=32)
 def round_mask(grid: Grid, radius: float, center: tuple[float, float]) -> np.ndarray:
     """Amplitude transmission (0..1) of a disc of ``radius`` (m) centred at ``center`` (m)."""
     x, y = grid.mesh()
     distance = np.hypot(x - center[0], y - center[1])
-    return np.sqrt(_open_share(radius - distance, min(grid.pitch)))
+    mask = np.sqrt(_open_share(radius - distance, min(grid.pitch))).astype(np.float32)
+    mask.flags.writeable = False  # cached: shared between trials with the same iris and grid
+    return mask
 
 
 def rectangle_mask(grid: Grid, half_widths: tuple[float, float], center: tuple[float, float]) -> np.ndarray:
@@ -46,9 +51,9 @@ def aperture_mask(element: Element, grid: Grid) -> np.ndarray:
         if element.value("size") is not None:
             width, height = element.value("size")
             return rectangle_mask(grid, (width / 2, height / 2), center)
-        mask = round_mask(grid, element.value("diameter") / 2, center)
+        mask = round_mask(grid, element.value("diameter") / 2, tuple(center))
         if element.value("stop") is not None:
-            blocked = round_mask(grid, element.value("stop") / 2, center) ** 2
+            blocked = round_mask(grid, element.value("stop") / 2, tuple(center)) ** 2
             mask = np.sqrt(np.clip(mask**2 - blocked, 0.0, 1.0))
         return mask
     return round_mask(grid, element.value("clear_aperture") / 2, (element.x, element.y))

@@ -190,6 +190,7 @@ def modulator_window(
     phase_map: np.ndarray | None = None,
     ideal: bool = False,
     design_beam=None,
+    phase_cache: dict | None = None,
 ) -> ModulatorWindow:
     """Sample the arriving beam on the panel's pixels and apply the displayed hologram.
 
@@ -209,6 +210,10 @@ def modulator_window(
     design_beam : object, optional
         The nominal arriving beam (``w``, ``center`` on the panel's pattern frame), for
         holograms that compensate the incident beam.
+    phase_cache : dict, optional
+        Displayed modulations by window, registration shift, wavelength and device state:
+        the hologram is computed for the nominal device, so trials that change none of
+        these reuse it.
     """
     patterns = compensated_patterns(patterns or builtin_patterns(), nominal.value("hologram") or {}, design_beam)
     pitch = real.value("pixel_pitch")
@@ -224,15 +229,24 @@ def modulator_window(
     if ideal:
         modulation = ideal_modulation(nominal, coordinates, design_wavelength, patterns, phase_map)
     else:
-        phase = _hologram_phase(nominal, coordinates, design_wavelength, patterns, phase_map)
         depth = real.value("phase_depth", 1.0)
         device = ModulatorDevice(
             pixel_pitch=pitch, pixels=(size, size), fill_factor=min(real.value("fill_factor", 1.0), 1.0),
             phase_levels=real.value("phase_levels"), design_wavelength=design_wavelength * depth,
             crosstalk=real.value("crosstalk", 0.0), dead_space=real.value("dead_space", "flat"),
         )
-        modulation = displayed_modulation(device, phase, wavelength)
-    values = (incident_values * modulation).astype(dtype)
+        window_key = (int(coordinates.ix[0, 0]), int(coordinates.iy[0, 0]), size,
+                      tuple(real.value("shift", (0.0, 0.0))))
+        key = window_key + (wavelength, device.design_wavelength, device.phase_levels, device.crosstalk)
+        modulation = phase_cache.get(key) if phase_cache is not None else None
+        if modulation is None:
+            phase = _hologram_phase(nominal, coordinates, design_wavelength, patterns, phase_map)
+            modulation = displayed_modulation(device, phase, wavelength).astype(dtype)
+            if phase_cache is not None:
+                if len(phase_cache) >= 4:
+                    phase_cache.clear()
+                phase_cache[key] = modulation
+    values = incident_values * modulation.astype(dtype, copy=False)
     # The layout's fill factor is the datasheet's area share; the square aperture's width
     # share per axis is its square root.
     width_share = math.sqrt(min(real.value("fill_factor", 1.0), 1.0))

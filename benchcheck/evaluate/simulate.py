@@ -112,14 +112,20 @@ class DesignBeam:
 
 @dataclass
 class WaveSimulator:
-    """Simulates realizations of one layout; built once per study (targets are cached)."""
+    """Simulates realizations of one layout; built once per study (targets are cached).
+
+    ``record_frames``: also make each camera's frame (pixel integration and quantisation);
+    studies leave it off unless a metric needs the frame.
+    """
 
     layout: Layout
     nominal_trace: TraceResult
     nominal: Realization
     patterns: Mapping = field(default_factory=builtin_patterns)
     workers: int = -1
+    record_frames: bool = False
     _targets: dict = field(default_factory=dict, init=False, repr=False)
+    _phases: dict = field(default_factory=dict, init=False, repr=False)
     _phase_map: np.ndarray | None = field(default=None, init=False, repr=False)
 
     def __post_init__(self) -> None:
@@ -163,7 +169,7 @@ class WaveSimulator:
             element = realization.element(name)
             if current is None:
                 arriving, cells = self._first_field(realization, trace, name, masks, state)
-                method, stage_notes = "start", ()
+                method, stage_notes = "start", tuple(start_notes(realization, trace, name, arriving, cells))
                 leaving_power = None
             else:
                 stage = stage_between(realization, trace, masks[index - 1], name)
@@ -187,7 +193,7 @@ class WaveSimulator:
                 leaving = leaving_power if leaving_power is not None else arriving.power
                 losses.append((name, max(leaving - passed.power, 0.0) / self.source_power))
             frame = None
-            if element.type == "camera":
+            if element.type == "camera" and self.record_frames:
                 frame = camera_frame(arriving, _camera_device(element))
             nominal = self.nominal_trace.plane(name)
             planes[name] = PlaneResult(name, arriving, passed, None, nominal.offset_in, nominal.angle_in, frame,
@@ -213,6 +219,7 @@ class WaveSimulator:
             window = modulator_window(
                 nominal_element, element, self.layout, arriving, realization.wavelength, power,
                 size, self.dtype, replicas, self.patterns, self._phase_map, ideal=ideal, design_beam=design_beam,
+                phase_cache=self._phases,
             )
             state["incident_power"] = window.incident_power
             state["charge"] = intended_charge(element)
@@ -277,6 +284,39 @@ class WaveSimulator:
         if field_now.grid != grid:
             return None
         return field_now
+
+
+def start_notes(realization: Realization, trace: TraceResult, name: str, field: Field, cells) -> list[str]:
+    """Explain the first plane's sampling, and flag hologram terms that alias on the pixels."""
+    element = realization.element(name)
+    grid = field.grid
+    w = max(arriving_beam(trace, name, realization.wavelength, realization.source().m2).w)
+    notes = [f"window {grid.nx} x {grid.ny} samples, {grid.extent[0] * 1e3:.3g} x {grid.extent[1] * 1e3:.3g} mm "
+             f"(±{grid.extent[0] / 2 / w:.2g} beam radii)"]
+    if cells is None:
+        return notes
+    notes.append(f"one sample per modulator pixel; pixel aperture {cells.fill_factor[0]:.3g} of the pitch wide "
+                 f"and {cells.dead_space} dead space, modelled analytically; {cells.replicas} replica period(s) kept")
+    hologram = element.value("hologram") or {}
+    pitch = min(element.value("pixel_pitch"))
+    wavelength = element.value("design_wavelength") or realization.wavelength
+    carrier = hologram.get("carrier", {}).get("period_px") or (
+        hologram.get("period_px") if hologram.get("pattern") == "grating" else None)
+    if carrier is not None and carrier < 2:
+        notes.append(f"carrier period {carrier:g} px is under 2 pixels: it aliases (fix: a longer period)")
+    focal_lengths = [hologram.get("lens")] + ([hologram.get("focal_length")] if hologram.get("pattern") == "lens" else [])
+    for focal_length in filter(None, focal_lengths):
+        # The lens phase πr²/(λf) steps by 2π p r/(λf) per pixel; over π it aliases.
+        radius = 2 * w
+        step = 2 * math.pi * pitch * radius / (wavelength * abs(focal_length))
+        if step > math.pi:
+            notes.append(f"lens term f = {focal_length * 1e3:.4g} mm steps {step:.2g} rad per pixel at r = 2w: "
+                         "it aliases (fix: a longer focal length)")
+    if hologram.get("pattern") == "axicon":
+        step = 2 * math.pi * pitch * math.sin(hologram.get("cone_angle", 0.0)) / wavelength
+        if step > math.pi:
+            notes.append(f"axicon steps {step:.2g} rad per pixel: it aliases (fix: a smaller cone angle)")
+    return notes
 
 
 def _transmission_before(trace: TraceResult, realization: Realization, name: str) -> float:

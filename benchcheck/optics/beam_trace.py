@@ -8,6 +8,7 @@ computed for the beam as it arrives; the cumulative transmission is reported.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
@@ -17,7 +18,7 @@ import numpy as np
 from benchcheck.bench.graph import SOURCE, Bench
 from benchcheck.bench.realization import Realization
 from benchcheck.layout.model import MAIN_ARM, Layout
-from benchcheck.optics.element_actions import IncomingBeam, act
+from benchcheck.optics.element_actions import IncomingBeam, act, hologram_deflection, wave_action
 from benchcheck.optics.gaussian import (
     beam_radius,
     distance_past_waist,
@@ -46,7 +47,9 @@ class PlaneBeam:
     ``passed`` the share of arriving power this plane passes (clipping and splitting);
     ``transmission`` the share of source power left after this plane. ``q``, ``q_in``:
     the q parameters (M² convention) leaving and arriving; ``offset_in``, ``angle_in``: the
-    chief ray arriving, before the element acts.
+    chief ray arriving, before the element acts. ``zero_order_offset``: downstream of a
+    modulator whose hologram deflects the wanted order, where the undeflected zero order's
+    chief ray is (the trace follows the wanted order; the zero order is reported apart).
     """
 
     name: str
@@ -67,6 +70,7 @@ class PlaneBeam:
     q_in: tuple[complex, complex] = field(repr=False, default=(0j, 0j))
     offset_in: tuple[float, float] = field(repr=False, default=(0.0, 0.0))
     angle_in: tuple[float, float] = field(repr=False, default=(0.0, 0.0))
+    zero_order_offset: tuple[float, float] | None = field(repr=False, default=None)
 
     def to_dict(self) -> dict:
         """The plane as DESIGN.md section 6 writes it (SI, unit in the key)."""
@@ -173,16 +177,15 @@ def trace_realization(
     ]
     planes = [_leaving(SOURCE, MAIN_ARM, "source", 0.0, start, m2, wavelength, 1.0, 1.0)]
     notes: list[str] = []
-    # Output of each plane per arm: (z, states, transmission)
-    outputs: dict[tuple[str, str], tuple[float, list[_AxisState], float]] = {
-        (SOURCE, MAIN_ARM): (0.0, start, 1.0)
-    }
+    # Output of each plane per arm: (z, states, transmission, zero-order states or None)
+    outputs: dict[tuple[str, str], tuple] = {(SOURCE, MAIN_ARM): (0.0, start, 1.0, None)}
     for name in bench.planes():
         element = realization.element(name)
         predecessor = next(iter(bench.graph.predecessors(name)))
-        z_before, states, transmission = outputs[(predecessor, element.arm)]
+        z_before, states, transmission, zero = outputs[(predecessor, element.arm)]
         gap = free_space(element.z - z_before)
         arriving = [_through(states[axis], gap) for axis in (0, 1)]
+        zero_arriving = [_through(zero[axis], gap) for axis in (0, 1)] if zero else None
         incoming = IncomingBeam(
             w=tuple(beam_radius(arriving[axis].q, wavelength, m2[axis]) for axis in (0, 1)),
             position=(arriving[0].position, arriving[1].position),
@@ -191,17 +194,37 @@ def trace_realization(
         plugin = (plugin_matrices or {}).get(element.type)
         action = act(element, wavelength, incoming, plugin)
         leaving = [_through(arriving[0], action.matrix_x), _through(arriving[1], action.matrix_y)]
+        zero_leaving = _zero_order(element, wavelength, incoming, arriving, zero_arriving, action, plugin)
         blocked = _blocked_share(element, action.passed)
         if blocked > CLIPPING_NOTE_LEVEL:
             notes.append(f"{name}: the clear aperture blocks {blocked:.3%} of the arriving beam")
         after = transmission * action.passed
-        planes.append(_leaving(name, element.arm, element.type, element.z, leaving, m2, wavelength,
-                               action.passed, after, arriving))
-        outputs[(name, element.arm)] = (element.z, leaving, after)
+        plane = _leaving(name, element.arm, element.type, element.z, leaving, m2, wavelength,
+                         action.passed, after, arriving)
+        if zero_leaving:
+            plane = dataclasses.replace(plane, zero_order_offset=(zero_leaving[0].position, zero_leaving[1].position))
+        planes.append(plane)
+        outputs[(name, element.arm)] = (element.z, leaving, after, zero_leaving)
         for arm, (matrix_x, matrix_y, passed) in (action.arm_matrices or {}).items():
             branch = [_through(arriving[0], matrix_x), _through(arriving[1], matrix_y)]
-            outputs[(name, arm)] = (element.z, branch, transmission * passed)
+            zero_branch = [_through(zero_arriving[0], matrix_x), _through(zero_arriving[1], matrix_y)] \
+                if zero_arriving else None
+            outputs[(name, arm)] = (element.z, branch, transmission * passed, zero_branch)
     return TraceResult(layout=bench.layout, planes=tuple(planes), notes=tuple(notes))
+
+
+def _zero_order(element, wavelength, incoming, arriving, zero_arriving, action, plugin):
+    """The zero order's chief ray leaving ``element``, or None when no hologram deflects.
+
+    At a modulator whose hologram deflects the wanted order, the zero order leaves with the
+    reflection alone; elsewhere it goes through the same matrices as the wanted order.
+    """
+    if element.type == "modulator" and any(hologram_deflection(element, wavelength)):
+        undeflected = wave_action(element, wavelength, incoming, plugin)
+        return [_through(arriving[0], undeflected.matrix_x), _through(arriving[1], undeflected.matrix_y)]
+    if zero_arriving is None:
+        return None
+    return [_through(zero_arriving[0], action.matrix_x), _through(zero_arriving[1], action.matrix_y)]
 
 
 def _blocked_share(element, passed: float) -> float:

@@ -164,6 +164,17 @@ def displayed_modulation(
     Same arguments as :func:`displayed_phase`; returns complex128 of unit modulus. The
     pixel aperture and dead space are applied later by the wave stage.
     """
+    if device.phase_levels is not None and device.crosstalk == 0 and oversample == 1:
+        # A quantised panel without fringing shows one of `levels` values: look them up
+        # instead of taking a complex exponential per pixel (same numbers, ~10x faster).
+        values = np.asarray(phase, dtype=float)
+        if values.shape != device.shape:
+            raise LayoutError(f"hologram shape {values.shape} does not match the panel {device.shape} (rows, columns)")
+        levels = int(device.phase_levels)
+        wrapped = np.mod(values, TWO_PI)
+        index = np.mod(np.rint(wrapped * (levels / TWO_PI)).astype(np.int64), levels)
+        table = np.exp(1j * (np.arange(levels) * (TWO_PI / levels)) * (device.design_wavelength / wavelength))
+        return table[index]
     return np.exp(1j * displayed_phase(device, phase, wavelength, oversample))
 
 

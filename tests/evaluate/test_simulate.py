@@ -144,3 +144,17 @@ def test_simulate_json_follows_the_output_contract():
     # 1e-3: the aperture edge is area-weighted over one sample of a 256-sample window.
     assert data["planes"][0]["power"] == pytest.approx(1 - math.exp(-2 * 0.75**2), abs=1e-3)
     assert "laser safety officer" in data["laser_safety"]
+
+
+def test_aliasing_hologram_terms_are_flagged():
+    # A lens term steps 2π p r/(λ f) per pixel; above π it aliases (Nyquist; common practice).
+    # Here at r = 2w = 2 mm, p = 8 µm, f = 20 mm: 2π·8 µm·2 mm/(1.064 µm·20 mm) ≈ 4.7 rad: flagged.
+    layout = bench(
+        '[[element]]\nname = "slm"\ntype = "modulator"\nz = "50 mm"\npixel_pitch = "8 um"\npixels = [512, 512]\n'
+        'hologram = { pattern = "lens", focal_length = "20 mm", carrier = { period_px = 1.5 } }\n'
+        '[[element]]\nname = "p"\ntype = "plane"\nz = "100 mm"\n',
+        simulation="[simulation]\ngrid = 512",
+    )
+    notes = " ".join(simulate(layout).simulation.notes)
+    assert "lens term" in notes and "aliases" in notes
+    assert "carrier period 1.5 px is under 2 pixels" in notes
