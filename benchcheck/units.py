@@ -26,6 +26,7 @@ __all__ = [
     "kind_of",
     "is_bare",
     "format_quantity",
+    "si_per_unit",
 ]
 
 registry = pint.UnitRegistry()
@@ -152,7 +153,10 @@ def evaluate_expression(text: str, params: Mapping[str, pint.Quantity] | None = 
     params = params or {}
     if len(text) > _MAX_LENGTH:
         raise ExpressionError(f"the expression is longer than {_MAX_LENGTH} characters")
-    source = text.replace("%", " percent ").replace("^", "**")
+    # Surrounding blanks would reach the tokenizer as an indent: " 150 mm" is still 150 mm.
+    source = text.replace("%", " percent ").replace("^", "**").strip()
+    if not source:
+        raise ExpressionError("the value is empty")
     try:
         tokens = list(pint_eval.tokenizer(source))
     except (tokenize.TokenError, IndentationError, SyntaxError) as error:
@@ -167,6 +171,9 @@ def evaluate_expression(text: str, params: Mapping[str, pint.Quantity] | None = 
         if token.type not in (tokenize.NUMBER, tokenize.NAME, tokenize.OP, tokenize.NEWLINE,
                               tokenize.ENDMARKER, tokenize.NL):
             raise ExpressionError(f"'{token.string}' is not allowed")
+        if token.type == tokenize.NEWLINE and token.string:
+            # "1 mm\n2" would otherwise read as the product 2 mm.
+            raise ExpressionError("a value must be one expression on one line")
         if token.type == tokenize.NUMBER and ("j" in token.string.lower()):
             raise ExpressionError(f"'{token.string}' is not a real number")
         previous = token
@@ -236,6 +243,11 @@ def format_quantity(value_si: float, unit: str, digits: int = 4) -> str:
         return f"{value_si:.{digits}g}"
     magnitude = Quantity(value_si, _si_unit_for(unit)).to(unit).magnitude
     return f"{magnitude:.{digits}g} {unit}"
+
+
+def si_per_unit(unit: str) -> float:
+    """How many SI units one ``unit`` is: ``si_per_unit("mm") == 0.001``."""
+    return float(Quantity(1.0, unit).to(_si_unit_for(unit)).magnitude)
 
 
 def _si_unit_for(unit: str) -> str:

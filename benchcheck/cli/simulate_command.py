@@ -28,7 +28,7 @@ def register(subparsers) -> None:
 
 
 def run(args, context) -> int:
-    layout = load_layout(args.layout)
+    layout = load_layout(args.layout, context.plugin_manager())
     report = simulate_layout(layout, context.plugin_manager())
     if args.save:
         _save(report, Path(args.save), args.force)

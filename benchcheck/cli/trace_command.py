@@ -24,8 +24,8 @@ def register(subparsers) -> None:
 
 
 def run(args, context) -> int:
-    layout = load_layout(args.layout)
-    result = trace(layout)
+    layout = load_layout(args.layout, context.plugin_manager())
+    result = trace(layout, plugin_manager=context.plugin_manager())
     if args.json:
         data = result.to_dict()
         data["laser_safety"] = LASER_SAFETY_CAUTION

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from benchcheck.evaluate.registries import collect_registries
 from benchcheck.evaluate.simulate import WaveSimulator
 from benchcheck.evaluate.trial import Evaluator
 from benchcheck.layout.model import Layout
@@ -20,7 +21,19 @@ def metric_registry(plugin_manager=None) -> MetricRegistry:
 
 
 def make_evaluator(layout: Layout, plugin_manager=None, registry: MetricRegistry | None = None) -> Evaluator:
-    """An Evaluator that traces every trial and simulates the wave when a spec needs it."""
-    evaluator = Evaluator(layout, registry or metric_registry(plugin_manager))
-    evaluator.simulate = WaveSimulator(layout, evaluator.nominal, evaluator.realization())
+    """An Evaluator that traces every trial and simulates the wave when a spec needs it.
+
+    Metrics, element types and hologram patterns come from ``plugin_manager`` (the default
+    plugins when omitted).
+    """
+    if plugin_manager is None:
+        from benchcheck.plugin_manager import make_plugin_manager
+
+        plugin_manager = make_plugin_manager()
+    registries = collect_registries(plugin_manager)
+    evaluator = Evaluator(layout, registry or metric_registry(plugin_manager),
+                          plugin_matrices=registries.plugin_matrices)
+    evaluator.simulate = WaveSimulator(layout, evaluator.nominal, evaluator.realization(),
+                                       patterns=registries.patterns, plugin_matrices=registries.plugin_matrices,
+                                       plugin_masks=registries.plugin_masks)
     return evaluator

@@ -47,7 +47,7 @@ class SimulationReport:
 def simulate_layout(layout: Layout, plugin_manager=None) -> SimulationReport:
     """Simulate the nominal bench: every observation plane, spec metrics and an overview."""
     registry = metric_registry(plugin_manager)
-    evaluator = make_evaluator(layout, registry=registry)
+    evaluator = make_evaluator(layout, plugin_manager, registry=registry)
     evaluator.simulate.record_frames = True
     trial = evaluator.evaluate(wave=True)
     simulation = trial.simulation

@@ -124,6 +124,8 @@ class WaveSimulator:
     patterns: Mapping = field(default_factory=builtin_patterns)
     workers: int = -1
     record_frames: bool = False
+    plugin_matrices: Mapping = field(default_factory=dict)
+    plugin_masks: Mapping = field(default_factory=dict)
     _targets: dict = field(default_factory=dict, init=False, repr=False)
     _phases: dict = field(default_factory=dict, init=False, repr=False)
     _phase_map: np.ndarray | None = field(default=None, init=False, repr=False)
@@ -159,7 +161,7 @@ class WaveSimulator:
     # -- one path -----------------------------------------------------------------------------
 
     def _run_path(self, realization, trace, observation, planes, losses, notes, state) -> None:
-        masks = mask_planes(realization, trace, observation)
+        masks = mask_planes(realization, trace, observation, self.plugin_masks)
         current = None
         cells = None
         for index, name in enumerate(masks):
@@ -172,7 +174,7 @@ class WaveSimulator:
                 method, stage_notes = "start", tuple(start_notes(realization, trace, name, arriving, cells))
                 leaving_power = None
             else:
-                stage = stage_between(realization, trace, masks[index - 1], name)
+                stage = stage_between(realization, trace, masks[index - 1], name, self.plugin_matrices)
                 try:
                     result = propagate(current, stage.matrix_x, stage.matrix_y, plane=name, cells=cells,
                                        workers=self.workers)
@@ -186,7 +188,7 @@ class WaveSimulator:
                 method, stage_notes, cells = result.method, result.notes, None
             passed = arriving
             if element.type not in OBSERVATION_TYPES and element.type != "modulator":
-                mask = aperture_mask(element, arriving.grid).astype(arriving.values.real.dtype)
+                mask = self._mask(element, arriving)
                 passed = arriving.replace(values=arriving.values * mask)
                 # Blocked here: all that left the previous plane and does not pass this mask,
                 # replica orders outside the window included (they land on the mask's plate).
@@ -200,6 +202,14 @@ class WaveSimulator:
                                        method, tuple(stage_notes))
             notes.extend(f"{name}: {note}" for note in stage_notes)
             current = passed
+
+    def _mask(self, element, arriving: Field) -> np.ndarray:
+        """An element's transmission on the field's grid: a plugin type's own mask, or its aperture."""
+        if element.type in self.plugin_masks:
+            x, y = arriving.grid.mesh()
+            mask = np.asarray(self.plugin_masks[element.type](element, x, y, arriving.wavelength))
+            return mask.astype(arriving.values.dtype if np.iscomplexobj(mask) else arriving.values.real.dtype)
+        return aperture_mask(element, arriving.grid).astype(arriving.values.real.dtype, copy=False)
 
     def _first_field(self, realization, trace, name, masks, state, ideal=False):
         """The field at the first mask plane of a path, and the pixel cells if it is a modulator."""
@@ -240,7 +250,7 @@ class WaveSimulator:
         if index + 1 >= len(masks):
             return 0
         following = realization.element(masks[index + 1])
-        stage = stage_between(realization, trace, name, following.name)
+        stage = stage_between(realization, trace, name, following.name, self.plugin_matrices)
         pitch = min(realization.element(name).value("pixel_pitch"))
         half_period = realization.wavelength * abs(stage.matrix_x[0, 1]) / (2 * pitch)
         if following.type == "aperture":
@@ -270,11 +280,11 @@ class WaveSimulator:
         observation = next((o for o in self.observations if plane in realization.bench.path_to(o)), None)
         if observation is None:
             return None
-        masks = mask_planes(realization, trace, observation)
+        masks = mask_planes(realization, trace, observation, self.plugin_masks)
         masks = masks[: masks.index(plane) + 1]
         field_now, _ = self._first_field(realization, trace, masks[0], masks, {}, ideal=True)
         for previous, name in zip(masks, masks[1:]):
-            stage = stage_between(realization, trace, previous, name)
+            stage = stage_between(realization, trace, previous, name, self.plugin_matrices)
             output = grid if name == plane else None
             try:
                 field_now = propagate(field_now, stage.matrix_x, stage.matrix_y, output_grid=output, plane=name,

@@ -7,6 +7,7 @@ failing metric is recorded against the trial with its plugin's name and the othe
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
@@ -17,8 +18,9 @@ from benchcheck.errors import LayoutError, PluginError
 from benchcheck.layout.model import Layout, Spec
 from benchcheck.metrics import MetricContext, MetricOutcome, MetricRegistry, evaluate_metrics
 from benchcheck.optics.beam_trace import PlaneBeam, TraceResult, trace_realization
+from benchcheck.units import si_per_unit
 
-__all__ = ["SpecOutcome", "TrialResult", "Evaluator", "RelativeBeam", "check_spec_metrics"]
+__all__ = ["SpecOutcome", "TrialResult", "Evaluator", "RelativeBeam", "check_spec_metrics", "resolve_spec_units"]
 
 
 @dataclass(frozen=True)
@@ -84,6 +86,34 @@ def check_spec_metrics(layout: Layout, registry: MetricRegistry) -> None:
                                   field="metric") from None
 
 
+_UNIT_KINDS = {"m": "length", "rad": "angle", "W": "power"}
+
+
+def resolve_spec_units(layout: Layout, registry: MetricRegistry) -> Layout:
+    """Give plain-number spec bounds the metric's unit as ``[units]`` states it.
+
+    ``max = 0.5`` on a beam radius with ``[units] length = "mm"`` means 0.5 mm; without a
+    ``[units]`` entry for that kind a plain number on a dimensional metric is refused.
+    """
+    specs = []
+    for spec in layout.specs:
+        kind = _UNIT_KINDS.get(registry.get(spec.metric).unit)
+        if not spec.bare_bounds or kind is None:
+            specs.append(spec)
+            continue
+        unit = layout.bare_units.get(kind)
+        if unit is None:
+            raise LayoutError(f"the bound of '{spec.metric}' is a plain number, but [units] does not say what "
+                              f"a bare {kind} means", file=layout.path, line=spec.line,
+                              element=f"spec '{spec.label}'", element_index=spec.index,
+                              field=spec.bare_bounds[0], hint=f"write it with a unit, e.g. \"0.5 mm\"")
+        scale = si_per_unit(unit)
+        changes = {("minimum" if key == "min" else "maximum"):
+                   getattr(spec, "minimum" if key == "min" else "maximum") * scale for key in spec.bare_bounds}
+        specs.append(dataclasses.replace(spec, bare_bounds=(), **changes))
+    return dataclasses.replace(layout, specs=tuple(specs))
+
+
 @dataclass
 class Evaluator:
     """Evaluates realizations of one layout; built once per study.
@@ -111,6 +141,7 @@ class Evaluator:
 
     def __post_init__(self) -> None:
         check_spec_metrics(self.layout, self.registry)
+        self.layout = resolve_spec_units(self.layout, self.registry)
         self.bench = build_bench(self.layout)
         self.nominal = trace_realization(Realization(self.bench), self.plugin_matrices)
         self.needs_wave = any(self.registry.get(spec.metric).needs_field for spec in self.layout.specs)

@@ -63,9 +63,9 @@ def arriving_beam(trace: TraceResult, name: str, wavelength: float, m2: tuple[fl
     return ArrivingBeam((q[0], q[1]), plane.offset_in, plane.angle_in, w)
 
 
-def is_mask(name: str, realization: Realization, trace: TraceResult) -> bool:
+def is_mask(name: str, realization: Realization, trace: TraceResult, plugin_masks=None) -> bool:
     element = realization.element(name)
-    if element.type in MASK_TYPES:
+    if element.type in MASK_TYPES or element.type in (plugin_masks or {}):
         return True
     if element.value("clear_aperture") is None:
         return False
@@ -76,13 +76,14 @@ def is_mask(name: str, realization: Realization, trace: TraceResult) -> bool:
     return 1.0 - passed > CLIP_MASK_LEVEL
 
 
-def mask_planes(realization: Realization, trace: TraceResult, observation: str) -> list[str]:
+def mask_planes(realization: Realization, trace: TraceResult, observation: str, plugin_masks=None) -> list[str]:
     """Mask planes on the path from the source to ``observation``, in beam order."""
     path = realization.bench.path_to(observation)[1:]
-    return [name for name in path if is_mask(name, realization, trace)]
+    return [name for name in path if is_mask(name, realization, trace, plugin_masks)]
 
 
-def stage_between(realization: Realization, trace: TraceResult, start: str, end: str) -> Stage:
+def stage_between(realization: Realization, trace: TraceResult, start: str, end: str,
+                  plugin_matrices=None) -> Stage:
     """The matrices from the plane ``start`` (its own action included) to ``end`` (excluded)."""
     bench = realization.bench
     path = bench.path_to(end)
@@ -100,7 +101,8 @@ def stage_between(realization: Realization, trace: TraceResult, start: str, end:
         if name == end:
             break
         beam = trace.plane(name)
-        action = wave_action(element, wavelength, IncomingBeam(beam.w, beam.offset, beam.angle))
+        action = wave_action(element, wavelength, IncomingBeam(beam.w, beam.offset, beam.angle),
+                             (plugin_matrices or {}).get(element.type))
         following = realization.element(names[index + 1])
         if action.arm_matrices and following.arm in action.arm_matrices:
             matrix_x, matrix_y, _ = action.arm_matrices[following.arm]

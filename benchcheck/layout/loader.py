@@ -15,7 +15,7 @@ from pathlib import Path
 from typing import Any
 
 from benchcheck.errors import LayoutError
-from benchcheck.layout.element_types import ElementType, builtin_element_types
+from benchcheck.layout.element_types import DOF_KINDS, ElementType, builtin_element_types
 from benchcheck.layout.elements import (
     NAME_PATTERN,
     RawElement,
@@ -158,6 +158,7 @@ class _LayoutBuilder:
             elements=tuple(elements),
             power=power,
             display=display,
+            bare_units=frozen_mapping(self.reader.default_units),
             params=frozen_mapping(params),
             arms=frozen_mapping(arms),
             specs=tuple(specs),
@@ -292,6 +293,8 @@ class _LayoutBuilder:
                 raise self.error(place, "each [[element]] must be a table")
             name = table.get("name")
             if not isinstance(name, str) or not NAME_PATTERN.match(name):
+                # Name the element by what the file says, not by the table's own name 'element'.
+                place = Place("element", index, name if isinstance(name, str) and name else "(no name)", index)
                 raise self.error(place.at("name"),
                                  "every element needs a 'name' of letters, digits and underscores"
                                  + (f", got {name!r}" if name is not None else ""))
@@ -301,7 +304,7 @@ class _LayoutBuilder:
                                  if name != "source" else "'source' is reserved for the laser")
             names[name] = index
             type_name = table.get("type")
-            if type_name not in self.element_types:
+            if not isinstance(type_name, str) or type_name not in self.element_types:
                 raise self.error(place.at("type"), f"unknown element type {type_name!r}",
                                  hint="known types: " + ", ".join(sorted(self.element_types)))
             raw = read_element_fields(self.reader, table, index, self.element_types[type_name], name,
@@ -345,8 +348,11 @@ class _LayoutBuilder:
                 for key, value in table.items() if key not in ("metric", "at", "min", "max", "name")
             }
             name = self.reader.string(table.get("name", ""), place.at("name")) if "name" in table else ""
+            bare = tuple(key for key in ("min", "max")
+                         if key in table and isinstance(table[key], (int, float)) and not isinstance(table[key], bool))
             specs.append(Spec(metric=metric, at=at, minimum=minimum, maximum=maximum, name=name, index=index,
-                              line=self.source_map.table_line("spec", index), options=frozen_mapping(options)))
+                              line=self.source_map.table_line("spec", index), options=frozen_mapping(options),
+                              bare_bounds=bare))
         return specs
 
     def _tolerancing(self, elements: list[Element]) -> Tolerancing:
@@ -364,7 +370,7 @@ class _LayoutBuilder:
         target = read.quantity(table.get("yield_target", 0.95), "ratio", place.at("yield_target"))
         if not 0 < target <= 1:
             raise self.error(place.at("yield_target"), f"must be between 0 and 1, got {target}")
-        adjust = read.strings(table.get("adjust", []), place.at("adjust"))
+        adjust, adjust_ranges = self._adjustments(table.get("adjust", []), place.at("adjust"))
         names = {element.name for element in elements} | {"source"}
         for dof in adjust:
             element_name, _, dof_name = dof.rpartition(".")
@@ -378,7 +384,26 @@ class _LayoutBuilder:
             defaults[type_name], _ = read_tolerances(read, entry, self.element_types[type_name],
                                                      place.at(f"defaults.{type_name}"))
         return Tolerancing(trials=trials, seed=seed, sampler=sampler, adjust=adjust, yield_target=target,
-                           defaults=frozen_mapping(defaults))
+                           defaults=frozen_mapping(defaults), adjust_ranges=frozen_mapping(adjust_ranges))
+
+    def _adjustments(self, raw: Any, place: Place) -> tuple[tuple[str, ...], dict[str, float]]:
+        """``adjust``: a list of dof names, or a table of dof name -> ± range ("cam.z" = "5 mm")."""
+        if not isinstance(raw, dict):
+            return self.reader.strings(raw, place), {}
+        ranges: dict[str, float] = {}
+        pending = list(raw.items())
+        while pending:
+            name, value = pending.pop(0)
+            if isinstance(value, dict):  # unquoted keys: cam.z = "5 mm" reads as { cam = { z = ... } }
+                pending[:0] = [(f"{name}.{key}", item) for key, item in value.items()]
+                continue
+            kind = DOF_KINDS.get(name.rpartition(".")[2], "length").partition("|")[0]
+            limit = self.reader.quantity(value, kind, place)
+            if not (limit > 0 and math.isfinite(limit)):
+                raise self.error(place, f"the adjustment range of '{name}' must be positive, got {value!r}",
+                                 hint="a ± range such as \"5 mm\"")
+            ranges[name] = limit
+        return tuple(ranges), ranges
 
     def _simulation(self) -> Simulation:
         table = self._table("simulation")
@@ -411,7 +436,8 @@ def _check_type_rules(builder: _LayoutBuilder, raw: RawElement, place: Place) ->
             raise builder.error(place.at(key), f"'{key}' must be {'non-zero' if key == 'focal_length' else 'positive'}")
     if raw.type == "aperture":
         if ("diameter" in values) == ("size" in values):
-            raise builder.error(place, "an aperture needs exactly one of 'diameter' or 'size'")
+            raise builder.error(place.at("size") if "size" in values else place,
+                                "an aperture needs exactly one of 'diameter' or 'size'")
         if "stop" in values and "diameter" in values and values["stop"] >= values["diameter"]:
             raise builder.error(place.at("stop"), "the central stop is as large as the opening")
     if raw.type == "relay":
@@ -454,6 +480,11 @@ def _resolve_positions(builder: _LayoutBuilder, raw_elements: list[RawElement]) 
         if raw.after is not None:
             if raw.after not in ends:
                 raise builder.error(place.at("after"), f"'{raw.after}' is not an element defined above this one")
+            after_arm = ends[raw.after][1]
+            if after_arm != arm and arms.get(arm) != raw.after:
+                # Path lengths along different arms cannot be added to each other.
+                raise builder.error(place.at("after"), f"'{raw.after}' is on arm '{after_arm}', this element on "
+                                    f"arm '{arm}'", hint=f"give arm = \"{after_arm}\" or follow an element of '{arm}'")
             z = ends[raw.after][0] + raw.gap
         else:
             z = raw.z

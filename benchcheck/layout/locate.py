@@ -58,6 +58,11 @@ class SourceMap:
             match = _KEY.match(self._lines[number - 1])
             if match and match.group(1).strip('"') == key:
                 return number
+        if table_name == "":
+            # A top-level key may be written as a table header: [optics] or [optics.part].
+            for other in self._tables:
+                if other.name == key or other.name.startswith(key + "."):
+                    return other.first_line
         # A dotted table such as [source] written as source.waist = ... at the root.
         return table.first_line or None
 

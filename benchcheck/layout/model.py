@@ -129,7 +129,11 @@ class Element:
 
 @dataclass(frozen=True)
 class Spec:
-    """A bound on a metric at a plane (``[[spec]]``)."""
+    """A bound on a metric at a plane (``[[spec]]``).
+
+    ``bare_bounds`` names the bounds ("min", "max") written as plain numbers: their unit is
+    the metric's, read through ``[units]`` once the metric is known (``resolve_spec_units``).
+    """
 
     metric: str
     at: str
@@ -139,6 +143,7 @@ class Spec:
     index: int = 0
     line: int | None = None
     options: Mapping[str, Any] = field(default_factory=frozen_mapping)
+    bare_bounds: tuple[str, ...] = ()
 
     @property
     def label(self) -> str:
@@ -167,7 +172,12 @@ class MountClass:
 
 @dataclass(frozen=True)
 class Tolerancing:
-    """Settings of a tolerance study (``[tolerancing]``)."""
+    """Settings of a tolerance study (``[tolerancing]``).
+
+    ``adjust`` names the adjustments (dofs re-optimised after assembly); ``adjust_ranges``
+    holds the ± range (SI) of those the layout gave one for (``adjust = { "cam.z" = "5 mm" }``);
+    the others get the tolerance study's default range.
+    """
 
     trials: int = 200
     seed: int = 0
@@ -175,6 +185,7 @@ class Tolerancing:
     adjust: tuple[str, ...] = ()
     yield_target: float = 0.95
     defaults: Mapping[str, tuple[Tolerance, ...]] = field(default_factory=frozen_mapping)
+    adjust_ranges: Mapping[str, float] = field(default_factory=frozen_mapping)
 
 
 @dataclass(frozen=True)
@@ -205,6 +216,7 @@ class Layout:
     elements: tuple[Element, ...]
     power: float | None = None
     display: DisplayUnits = DisplayUnits()
+    bare_units: Mapping[str, str] = field(default_factory=frozen_mapping)
     params: Mapping[str, float] = field(default_factory=frozen_mapping)
     arms: Mapping[str, str] = field(default_factory=frozen_mapping)
     specs: tuple[Spec, ...] = ()

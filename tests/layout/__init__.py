@@ -1,0 +1,1 @@
+"""Tests of the layout loader (benchcheck.layout) and the quantity reader (benchcheck.units)."""
