@@ -35,6 +35,13 @@ _SOURCE = "spiral spectrum weight C_l/ΣC_m, Torner, Torres and Carrasco, Opt. E
 # not resolved at all.
 _MIN_RINGS = 8
 _MIN_ANGLES = 64
+# At most this many rings and angular samples: the radial weight integrand is smooth, so
+# Simpson's rule on 256 rings is exact far below 1e-6 for beams spanning the rings; and 1024
+# angular samples resolve charges up to ±511, far beyond what a shaped beam carries (a
+# displaced beam's spiral spectrum falls off within a few charges of the intended one).
+# Without the caps a 1024² field takes ~1 s; with them ~0.1 s.
+_MAX_RINGS = 256
+_MAX_ANGLES = 1024
 # Light beyond the radius holding all but this fraction of the power (about the axis) is
 # left out of the rings: it changes no weight by more than this, and it saves sampling
 # empty window.
@@ -104,8 +111,9 @@ def spiral_spectrum(
     # One ring per sample pitch, and one angular sample per pitch of the outer circumference:
     # a field sampled at pitch p holds angular orders up to |l| ≈ π r / p at radius r, so
     # 2π r / p samples per ring resolve them (Nyquist).
-    ring_count = int(math.ceil(outer / pitch))
-    angle_count = scipy.fft.next_fast_len(max(_MIN_ANGLES, int(math.ceil(2 * math.pi * outer / pitch))))
+    ring_count = min(int(math.ceil(outer / pitch)), _MAX_RINGS)
+    angle_count = scipy.fft.next_fast_len(
+        min(max(_MIN_ANGLES, int(math.ceil(2 * math.pi * outer / pitch))), _MAX_ANGLES))
     radii = np.linspace(0.0, outer, ring_count + 1)  # from the axis: l = 0 has light there
     angles = 2 * math.pi * np.arange(angle_count) / angle_count
     ring_x = axis[0] + radii[:, np.newaxis] * np.cos(angles)
