@@ -38,6 +38,7 @@ from benchcheck.layout.model import (
     frozen_mapping,
 )
 from benchcheck.layout.reader import Place, ValueReader
+from benchcheck.limits import GRID_CEILING, MAX_PIXELS_PER_SIDE, TRIALS_CEILING
 from benchcheck.units import is_bare, kind_of, registry
 
 __all__ = ["load_layout", "parse_layout", "FORMAT", "TOP_LEVEL_TABLES", "MOUNT_COLLISION_DISTANCE"]
@@ -49,8 +50,10 @@ TOP_LEVEL_TABLES = (
 #: Two elements closer than this along one arm may not both fit (common practice: a one-inch
 #: mount is about 10-15 mm thick, so 1 mm apart is certainly a collision).
 MOUNT_COLLISION_DISTANCE = 1e-3
-MAX_GRID = 16384
-MAX_TRIALS = 10_000_000
+# The largest values any command-line option can allow (benchcheck.limits); the caps a run
+# uses by default are lower and are checked before allocating, with the option to raise them.
+MAX_GRID = GRID_CEILING
+MAX_TRIALS = TRIALS_CEILING
 SOURCE_DOFS = ("wavelength", "waist", "waist_z", "m2", "x", "y", "tilt_x", "tilt_y")
 
 
@@ -206,13 +209,9 @@ class _LayoutBuilder:
             place = Place("params", key=key)
             if not NAME_PATTERN.match(key):
                 raise self.error(place, f"'{key}' is not a valid name", hint="letters, digits, underscore")
-            quantity = self.reader.evaluate(value, place)
-            if is_bare(quantity):
-                # A bare number in [params] means what [units] says for lengths, if anything.
-                unit = self.reader.default_units.get("length")
-                if unit is not None and not isinstance(value, str):
-                    quantity = quantity * registry.Quantity(1.0, unit)
-            quantities[key] = quantity
+            # A bare number stays bare: the field that uses it gives it the unit [units]
+            # states for that field's kind (so `n = 1.5` can be an index and `f1 = 300` a length).
+            quantities[key] = self.reader.evaluate(value, place)
             self.reader.params = dict(quantities)
         return {key: float(q.to_base_units().magnitude) for key, q in quantities.items()}
 
@@ -448,6 +447,10 @@ def _check_type_rules(builder: _LayoutBuilder, raw: RawElement, place: Place) ->
         for pitch in values["pixel_pitch"]:
             if not pitch > 0:
                 raise builder.error(place.at("pixel_pitch"), "the pixel pitch must be positive")
+        if max(values["pixels"]) > MAX_PIXELS_PER_SIDE:
+            raise builder.error(place.at("pixels"), f"{max(values['pixels'])} pixels on one side is more than any "
+                                f"{raw.type} has (at most {MAX_PIXELS_PER_SIDE})",
+                                hint="pixels = [columns, rows] of the device, e.g. [1920, 1080]")
     if raw.type == "modulator":
         if not 0 < values["fill_factor"] <= 1:
             raise builder.error(place.at("fill_factor"), f"must be in (0, 1], got {values['fill_factor']}")
