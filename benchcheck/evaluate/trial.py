@@ -106,7 +106,7 @@ def resolve_spec_units(layout: Layout, registry: MetricRegistry) -> Layout:
             raise LayoutError(f"the bound of '{spec.metric}' is a plain number, but [units] does not say what "
                               f"a bare {kind} means", file=layout.path, line=spec.line,
                               element=f"spec '{spec.label}'", element_index=spec.index,
-                              field=spec.bare_bounds[0], hint=f"write it with a unit, e.g. \"0.5 mm\"")
+                              field=spec.bare_bounds[0], hint="write it with a unit, e.g. \"0.5 mm\"")
         scale = si_per_unit(unit)
         changes = {("minimum" if key == "min" else "maximum"):
                    getattr(spec, "minimum" if key == "min" else "maximum") * scale for key in spec.bare_bounds}

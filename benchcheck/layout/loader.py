@@ -39,7 +39,7 @@ from benchcheck.layout.model import (
 )
 from benchcheck.layout.reader import Place, ValueReader
 from benchcheck.limits import GRID_CEILING, MAX_PIXELS_PER_SIDE, TRIALS_CEILING
-from benchcheck.units import is_bare, kind_of, registry
+from benchcheck.units import kind_of, registry
 
 __all__ = ["load_layout", "parse_layout", "FORMAT", "TOP_LEVEL_TABLES", "MOUNT_COLLISION_DISTANCE"]
 

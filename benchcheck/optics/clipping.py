@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import math
 
-from scipy import integrate, special, stats
+from scipy import integrate, special
 
 __all__ = [
     "circular_transmission",
