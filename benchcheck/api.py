@@ -15,7 +15,7 @@ from benchcheck.layout.loader import load_layout as _load_layout
 from benchcheck.layout.model import Layout
 from benchcheck.optics.beam_trace import TraceResult, trace_realization
 
-__all__ = ["load_layout", "trace", "simulate", "tolerance", "plan_mounts"]
+__all__ = ["load_layout", "trace", "simulate", "tolerance", "plan_mounts", "review", "diff"]
 
 
 def load_layout(path: str | Path, plugin_manager=None) -> Layout:
@@ -60,6 +60,8 @@ def tolerance(
     progress=None,
     plugin_manager=None,
     plugin_options=None,
+    executor: str = "processes",
+    scheduler=None,
 ):
     """Monte Carlo tolerance study of a layout (``benchcheck tolerance``).
 
@@ -79,6 +81,9 @@ def tolerance(
         ``progress(completed, total)`` after each trial.
     plugin_manager, plugin_options : optional
         Where metrics come from (made with the default plugins when omitted).
+    executor, scheduler : optional
+        ``executor="dask"`` runs the trials on the dask.distributed cluster whose scheduler
+        address (or connected client) is ``scheduler``; the result is the same as a local run's.
 
     Returns
     -------
@@ -91,7 +96,7 @@ def tolerance(
         layout = load_layout(layout, plugin_manager)
     return run_study(layout, plugin_manager, trials=trials, seed=seed, sampler=sampler, workers=workers,
                      run_file=run_file, resume=resume, force=force, progress=progress,
-                     plugin_options=plugin_options)
+                     plugin_options=plugin_options, executor=executor, scheduler=scheduler)
 
 
 def simulate(layout: Layout | str | Path, plugin_manager=None):
@@ -147,3 +152,72 @@ def plan_mounts(
         evaluator.simulate = simulate
     return plan_mount_classes(evaluator, layout, trials=trials, seed=seed, yield_target=yield_target,
                               use_catalogue=use_catalogue)
+
+
+def review(layout: Layout | str | Path, plugin_manager=None):
+    """Review a layout with every registered review rule (``benchcheck review``).
+
+    Parameters
+    ----------
+    layout : Layout or path
+        The bench to review.
+    plugin_manager : pluggy.PluginManager, optional
+        Where rules, metrics, element types and patterns come from (a fresh one from the
+        ``benchcheck`` entry points when omitted).
+
+    Returns
+    -------
+    benchcheck.review.ReviewReport
+        Findings sorted by severity, then element; ``to_dict()`` equals the JSON of
+        ``benchcheck review --json`` without its ``laser_safety`` entry.
+    """
+    from benchcheck.review.runner import review as review_layout
+
+    if plugin_manager is None:
+        from benchcheck.plugin_manager import make_plugin_manager
+
+        plugin_manager = make_plugin_manager()
+    if not isinstance(layout, Layout):
+        layout = load_layout(layout, plugin_manager)
+    return review_layout(layout, plugin_manager)
+
+
+def diff(
+    a: Layout | str | Path,
+    b: Layout | str | Path,
+    *,
+    tolerance: bool = False,
+    trials: int = 100,
+    seed: int | None = None,
+    wave: bool = True,
+    plugin_manager=None,
+):
+    """Compare two layouts and what the change does (``benchcheck diff``).
+
+    Parameters
+    ----------
+    a, b : Layout or path
+        Layout A (the reference) and layout B.
+    tolerance : bool
+        Also compare the Monte Carlo yields and fails-first lists.
+    trials : int
+        Trials per study when ``tolerance`` is set.
+    seed : int, optional
+        One seed for both studies (each layout's ``[tolerancing]`` seed when omitted).
+    wave : bool
+        False: judge the nominal specs on the paraxial trace only.
+    plugin_manager : optional
+        Where metrics, element types and patterns come from.
+
+    Returns
+    -------
+    benchcheck.diff.LayoutDiff
+        ``to_dict()`` equals the JSON of ``benchcheck diff --json``.
+    """
+    from benchcheck.diff import diff_layouts
+
+    if not isinstance(a, Layout):
+        a = load_layout(a, plugin_manager)
+    if not isinstance(b, Layout):
+        b = load_layout(b, plugin_manager)
+    return diff_layouts(a, b, plugin_manager, tolerance=tolerance, trials=trials, seed=seed, wave=wave)

@@ -25,6 +25,8 @@ import pluggy
 if TYPE_CHECKING:  # only for annotations: these modules import nothing from here
     from benchcheck.layout.element_types import ElementType
     from benchcheck.metrics import Metric
+    from benchcheck.report.types import ReportWriter
+    from benchcheck.review.types import ReviewRule
     from benchcheck.wave.holograms import HologramPattern
 
 __all__ = [
@@ -102,7 +104,7 @@ def benchcheck_register_hologram_patterns() -> list[HologramPattern]:
 
 
 @hookspec
-def benchcheck_register_review_rules() -> list["ReviewRule"]:  # noqa: F821 (type added later)
+def benchcheck_register_review_rules() -> list[ReviewRule]:
     """Give the layout review rules this plugin adds.
 
     When called
@@ -118,7 +120,7 @@ def benchcheck_register_review_rules() -> list["ReviewRule"]:  # noqa: F821 (typ
 
 
 @hookspec
-def benchcheck_register_report_writers() -> list["ReportWriter"]:  # noqa: F821 (type added later)
+def benchcheck_register_report_writers() -> list[ReportWriter]:
     """Give the report writers (output formats) this plugin adds.
 
     When called

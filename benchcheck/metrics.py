@@ -19,6 +19,7 @@ from types import MappingProxyType
 from typing import TYPE_CHECKING, Any
 
 from benchcheck.errors import PluginError
+from benchcheck.metric_watchdog import DEFAULT_METRIC_TIME_LIMIT, MetricTimedOut, run_with_time_limit
 from benchcheck.wave.field import Field
 
 if TYPE_CHECKING:
@@ -32,6 +33,8 @@ __all__ = [
     "MetricRegistry",
     "MetricUnavailable",
     "evaluate_metrics",
+    "DEFAULT_METRIC_TIME_LIMIT",
+    "TIME_LIMIT_OPTION",
 ]
 
 #: Shown wherever power, irradiance or blocked light is reported to a person (rule of the
@@ -41,6 +44,9 @@ LASER_SAFETY_CAUTION = (
     "estimates, not measurements: follow your local laser safety rules and your laser "
     "safety officer."
 )
+
+#: The ``[[spec]]`` option (seconds) that sets the time limit of the metrics at its plane.
+TIME_LIMIT_OPTION = "metric_time_limit"
 
 # Metric names end up in keys like "<plane>.<metric>", so no dots or spaces.
 _METRIC_NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
@@ -264,8 +270,8 @@ class MetricRegistry:
         return registry
 
 
-def _run_one(metric: Metric, context: MetricContext) -> MetricOutcome:
-    """Compute one metric inside its own guard."""
+def _run_one(metric: Metric, context: MetricContext, time_limit: float = DEFAULT_METRIC_TIME_LIMIT) -> MetricOutcome:
+    """Compute one metric inside its own guard, abandoned after ``time_limit`` seconds."""
 
     def outcome(value: float | None, error: str | None) -> MetricOutcome:
         return MetricOutcome(metric.name, context.plane, value, error, metric.plugin)
@@ -277,7 +283,13 @@ def _run_one(metric: Metric, context: MetricContext) -> MetricOutcome:
             f"at plane '{context.plane}')",
         )
     try:
-        value = float(metric.compute(context))
+        value = float(run_with_time_limit(lambda: metric.compute(context), time_limit))
+    except MetricTimedOut:
+        return outcome(
+            None,
+            f"metric '{metric.name}' from plugin '{metric.plugin}' did not finish within {time_limit:g} s at "
+            f"plane '{context.plane}' (abandoned; its thread may still be running)",
+        )
     except MetricUnavailable as missing:
         return outcome(None, f"metric '{metric.name}' is unavailable at plane '{context.plane}': {missing}")
     except Exception as error:  # the guard: any plugin bug becomes an outcome, never a crash
@@ -296,7 +308,7 @@ def _run_one(metric: Metric, context: MetricContext) -> MetricOutcome:
 
 
 def evaluate_metrics(
-    registry: MetricRegistry, names: Iterable[str], context: MetricContext
+    registry: MetricRegistry, names: Iterable[str], context: MetricContext, time_limit: float | None = None
 ) -> list[MetricOutcome]:
     """Compute the named metrics at one plane, each in its own guard.
 
@@ -308,6 +320,11 @@ def evaluate_metrics(
         Registered metric names, in the order the outcomes should come back.
     context : MetricContext
         What the metrics may read at this plane.
+    time_limit : float, optional
+        Seconds each metric may take; a metric still running then is recorded as failed and
+        abandoned (its thread cannot be stopped and keeps running in the background). When
+        omitted: ``context.options["metric_time_limit"]`` (a ``[[spec]]`` option) or
+        ``DEFAULT_METRIC_TIME_LIMIT``; ``math.inf`` runs the metrics on the calling thread.
 
     Returns
     -------
@@ -322,4 +339,6 @@ def evaluate_metrics(
         If a name is not registered (checked for all names before anything is computed).
     """
     metrics = [registry.get(name) for name in names]
-    return [_run_one(metric, context) for metric in metrics]
+    if time_limit is None:
+        time_limit = float(context.options.get(TIME_LIMIT_OPTION, DEFAULT_METRIC_TIME_LIMIT))
+    return [_run_one(metric, context, time_limit) for metric in metrics]

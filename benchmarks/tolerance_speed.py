@@ -3,7 +3,8 @@
     python benchmarks/tolerance_speed.py [LAYOUT] [--trials N]
 
 Prints paraxial-only trials per second for: the paraxial trace alone, one full trial
-(trace + metrics + specs) in this process, and the study with 1 and 2 worker processes,
+(trace + metrics + specs) in this process, the vectorised batch trace and batched trials
+(``benchcheck.tolerance.paraxial_batch``), and the study with 1 and 2 worker processes,
 with the ratios between them. Timings cover the trials only (not the failure-threshold
 search that follows them); the 2-worker figure is also given with its start-up included.
 """
@@ -16,6 +17,7 @@ from pathlib import Path
 
 from benchcheck.api import load_layout
 from benchcheck.bench.realization import Realization
+from benchcheck.optics.batch_trace import trace_batch
 from benchcheck.optics.beam_trace import trace_realization
 from benchcheck.plugin_manager import make_plugin_manager
 from benchcheck.tolerance.dofs import resolve_dofs
@@ -72,11 +74,27 @@ def main() -> None:
         runner.run(index, perturbation, {})
     trial_rate = _rate(args.trials, time.perf_counter() - start)
 
+    start = time.perf_counter()
+    trace_batch(runner.evaluator.bench, perturbations)
+    batch_trace_rate = _rate(args.trials, time.perf_counter() - start)
+    batched = runner.paraxial_batch is not None
+    start = time.perf_counter()
+    if batched:
+        runner.run_batch([(index, perturbation, {}) for index, perturbation in enumerate(perturbations)])
+    batch_trial_rate = _rate(args.trials, time.perf_counter() - start)
+
     one, _ = _study_rate(layout, plugin_manager, args.trials, 1)
     two, two_overall = _study_rate(layout, plugin_manager, args.trials, 2)
     print(f"layout: {args.layout} ({len(sampler.dofs)} dofs, {args.trials} trials)")
     print(f"paraxial trace alone     : {trace_rate:10.0f} trials/s ({1e3 / trace_rate:.3f} ms each)")
     print(f"full paraxial trial      : {trial_rate:10.0f} trials/s (trace share {trial_rate / trace_rate:.2f})")
+    print(f"vectorised trace         : {batch_trace_rate:10.0f} trials/s (ratio to the trace alone "
+          f"{batch_trace_rate / trace_rate:.1f})")
+    if batched:
+        print(f"vectorised full trials   : {batch_trial_rate:10.0f} trials/s (ratio to one by one "
+              f"{batch_trial_rate / trial_rate:.1f})")
+    else:
+        print("vectorised full trials   : not used for this layout (a spec or element needs the trial-by-trial path)")
     print(f"study, 1 worker          : {one:10.0f} trials/s")
     print(f"study, 2 workers         : {two:10.0f} trials/s (with start-up {two_overall:.0f} trials/s)")
     print(f"ratio 2 workers / 1      : {two / one:10.2f} (with start-up {two_overall / one:.2f})")

@@ -19,7 +19,9 @@ from rich.console import Console
 from rich.markup import escape
 
 from benchcheck import __version__
+from benchcheck.cli.limit_options import add_limit_options, limits_from_arguments
 from benchcheck.errors import BenchcheckError
+from benchcheck.limits import use_limits
 
 __all__ = ["main", "run", "CommandContext", "EXIT_OK", "EXIT_BOUND_MISSED", "EXIT_BAD_INPUT"]
 
@@ -34,6 +36,9 @@ _COMMAND_MODULES = (
     "benchcheck.cli.simulate_command",
     "benchcheck.cli.tolerance_command",
     "benchcheck.cli.mounts_command",
+    "benchcheck.cli.review_command",
+    "benchcheck.cli.diff_command",
+    "benchcheck.cli.report_command",
     "benchcheck.cli.schema_command",
     "benchcheck.cli.plugins_command",
 )
@@ -78,6 +83,7 @@ def _build_parser() -> argparse.ArgumentParser:
         action="store_true",
         help="load no plugins from entry points (also: BENCHCHECK_NO_PLUGINS=1)",
     )
+    add_limit_options(parser)
     subparsers = parser.add_subparsers(dest="command", metavar="COMMAND")
     for module_name in _COMMAND_MODULES:
         try:
@@ -118,7 +124,8 @@ def main(argv: Sequence[str] | None = None, console: Console | None = None) -> i
         parser.print_help()
         return EXIT_OK
     try:
-        return int(handler(args, context))
+        with use_limits(limits_from_arguments(args)):
+            return int(handler(args, context))
     except BenchcheckError as error:
         context.error_console.print(f"[bold red]error:[/] {escape(str(error))}", highlight=False)
         return EXIT_BAD_INPUT

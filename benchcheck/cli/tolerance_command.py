@@ -53,6 +53,10 @@ def register(subparsers) -> None:
     parser.add_argument("--seed", type=int, help="seed of the study (default: [tolerancing] seed)")
     parser.add_argument("--sampler", choices=SAMPLERS, help="pseudo-random or scrambled Sobol points")
     parser.add_argument("--workers", type=_positive, default=1, help="worker processes (results do not depend on it)")
+    parser.add_argument("--executor", choices=("processes", "dask"), default="processes",
+                        help="where trials run: here or in local worker processes, or on a dask cluster")
+    parser.add_argument("--scheduler", metavar="ADDRESS",
+                        help="dask scheduler address for --executor dask (for example tcp://10.0.0.5:8786)")
     parser.add_argument("--json", action="store_true", help="print JSON in SI units (DESIGN.md section 6)")
     parser.add_argument("--out", metavar="RUN_FILE", help="stream every finished trial to this JSON-lines file")
     parser.add_argument("--resume", action="store_true", help="continue the run file given with --out")
@@ -131,7 +135,9 @@ def _resume_hint(args, interrupted: StudyInterrupted) -> str:
         return "no run file was written; run again with --out RUN_FILE to be able to resume"
     words = ["benchcheck", "tolerance", args.layout, "--out", interrupted.run_file, "--resume"]
     for option, value in (("--trials", args.trials), ("--seed", args.seed), ("--sampler", args.sampler),
-                          ("--workers", args.workers if args.workers != 1 else None)):
+                          ("--workers", args.workers if args.workers != 1 else None),
+                          ("--executor", args.executor if args.executor != "processes" else None),
+                          ("--scheduler", args.scheduler)):
         if value is not None:
             words += [option, str(value)]
     return f"finished trials are in {interrupted.run_file}; resume with: {shlex.join(words)}"
@@ -151,6 +157,7 @@ def run(args, context) -> int:
         with _stop_on_sigterm(), _progress_bar(context.error_console, show_bar) as update:
             result = tolerance(layout, trials=args.trials, seed=args.seed, sampler=args.sampler,
                                workers=args.workers, run_file=args.out, resume=args.resume, force=args.force,
+                               executor=args.executor, scheduler=args.scheduler,
                                progress=update, plugin_manager=context.plugin_manager(), plugin_options=options)
     except StudyInterrupted as interrupted:
         context.error_console.print(f"stopped after {interrupted.completed} of {interrupted.total} trials; "

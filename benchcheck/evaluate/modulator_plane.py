@@ -19,6 +19,7 @@ import numpy as np
 
 from benchcheck.errors import LayoutError
 from benchcheck.layout.model import Element, Layout
+from benchcheck.limits import Limits, current_limits
 from benchcheck.wave.beams import gaussian_field
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
@@ -55,21 +56,61 @@ def _pattern_params(hologram: Mapping) -> dict:
     return {key: value for key, value in hologram.items() if key not in _HOLOGRAM_TERMS}
 
 
-def load_phase_map(path_text: str, layout: Layout, element: Element) -> np.ndarray:
-    """Load a ``.npy`` phase map named by a layout, relative to the layout's folder.
+def load_phase_map(path_text: str, layout: Layout, element: Element, limits: Limits | None = None) -> np.ndarray:
+    """Load a ``.npy`` phase map (radians) named by a layout, relative to the layout's folder.
 
-    A path outside the layout's folder is refused; the file is read without pickle.
+    A path outside the layout's folder is refused unless a folder of ``limits`` (the
+    ``--allow-path`` option) holds it. The file is read without pickle, and its header is
+    checked before the data are read: real numbers only, and no more values than the
+    modulator has pixels.
+
+    Parameters
+    ----------
+    path_text : str
+        The ``hologram.path`` field as written.
+    layout, element : Layout, Element
+        Where the path was written (for the folder and the messages).
+    limits : Limits, optional
+        Folders the user allowed; ``current_limits()`` when omitted.
+
+    Raises
+    ------
+    LayoutError
+        Naming the file, line, element and field, and why the map was refused.
     """
+    limits = limits or current_limits()
     folder = Path(layout.path).resolve().parent
     path = (folder / path_text).resolve()
     where = dict(file=layout.path, line=element.line, element=element.name, element_index=element.index,
                  field="hologram.path")
-    if folder not in path.parents:
-        raise LayoutError(f"the phase map '{path_text}' is outside the layout's folder", **where)
+    if not limits.may_read(path, folder):
+        raise LayoutError(f"the phase map '{path_text}' is outside the layout's folder", **where,
+                          hint=f"allow its folder with --allow-path {path.parent}")
+    columns, rows = element.value("pixels")
     try:
-        return np.load(path, allow_pickle=False)
-    except (OSError, ValueError) as error:
-        raise LayoutError(f"cannot read the phase map '{path_text}' ({error})", **where) from None
+        with path.open("rb") as stream:
+            shape, dtype = _npy_header(stream)
+            if dtype.hasobject or dtype.kind not in "iuf":
+                raise LayoutError(f"the phase map '{path_text}' holds {dtype}, not real numbers (radians)", **where)
+            if math.prod(shape) > columns * rows:
+                raise LayoutError(f"the phase map '{path_text}' has shape {shape}, more values than the "
+                                  f"modulator's {columns} x {rows} pixels", **where)
+            stream.seek(0)
+            return np.lib.format.read_array(stream, allow_pickle=False)
+    except (OSError, ValueError, EOFError) as error:
+        raise LayoutError(f"cannot read the phase map '{path_text}' as a .npy file ({error})", **where) from None
+
+
+def _npy_header(stream) -> tuple[tuple[int, ...], np.dtype]:
+    """Shape and dtype from a .npy header, without reading the data (NumPy .npy format 1.0 or 2.0)."""
+    version = np.lib.format.read_magic(stream)
+    if version == (1, 0):
+        shape, _, dtype = np.lib.format.read_array_header_1_0(stream)
+    elif version == (2, 0):
+        shape, _, dtype = np.lib.format.read_array_header_2_0(stream)
+    else:
+        raise ValueError(f".npy format {version[0]}.{version[1]} is not read (1.0 or 2.0 only)")
+    return tuple(int(n) for n in shape), np.dtype(dtype)
 
 
 def _window_coordinates(nominal: Element, real: Element, beam_position: tuple[float, float], size: int):
@@ -241,7 +282,7 @@ def modulator_window(
         modulation = phase_cache.get(key) if phase_cache is not None else None
         if modulation is None:
             phase = _hologram_phase(nominal, coordinates, design_wavelength, patterns, phase_map)
-            modulation = displayed_modulation(device, phase, wavelength).astype(dtype)
+            modulation = displayed_modulation(device, phase, wavelength, dtype=dtype)
             if phase_cache is not None:
                 if len(phase_cache) >= 4:
                     phase_cache.clear()

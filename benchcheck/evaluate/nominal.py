@@ -49,6 +49,7 @@ def simulate_layout(layout: Layout, plugin_manager=None) -> SimulationReport:
     registry = metric_registry(plugin_manager)
     evaluator = make_evaluator(layout, plugin_manager, registry=registry)
     evaluator.simulate.record_frames = True
+    evaluator.simulate.lazy_targets = False  # the report shows every plane's target
     trial = evaluator.evaluate(wave=True)
     simulation = trial.simulation
     overview = []

@@ -7,13 +7,20 @@ would on the bench. Each stage between mask planes is crossed by the Collins int
 Targets (the ideal shaped field at each plane, for purity and wavefront metrics) are the
 hologram's ideal modulation of the nominal incident beam carried through the nominal
 stages, without masks, onto the same grids as the trial's fields.
+
+Speed: a study's trials ask for targets lazily (``lazy_targets``), only at the planes a
+metric reads one; the nominal ideal field at the mask plane before each target plane is kept,
+so a target costs one stage onto the trial's grid (one FFT when only the window's centre
+moved, a chirp-z transform when a dof changed the pitch), and the last few targets are kept
+by grid.
 """
 
 from __future__ import annotations
 
 import dataclasses
 import math
-from collections.abc import Mapping
+from collections import OrderedDict
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -29,10 +36,12 @@ from benchcheck.evaluate.wave_path import (
     stage_between,
 )
 from benchcheck.layout.model import Layout
+from benchcheck.limits import check_wave_grid
 from benchcheck.optics.beam_trace import TraceResult
 from benchcheck.wave.beams import gaussian_field
 from benchcheck.wave.camera import CameraDevice, CameraFrame, camera_frame
 from benchcheck.wave.field import Field
+from benchcheck.wave.fft_backend import apply_fft_backend_from_environment
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.holograms import builtin_patterns
 from benchcheck.wave.moments import beam_moments
@@ -73,12 +82,18 @@ class SimulationResult:
     charge: int | None
     notes: tuple[str, ...] = ()
     faults: tuple[str, ...] = ()
+    target_source: Callable[[PlaneResult], Field | None] | None = field(default=None, repr=False, compare=False)
 
     def context_for(self, plane: str) -> dict:
-        """The wave part of a MetricContext at ``plane`` (empty when the plane has no field)."""
+        """The wave part of a MetricContext at ``plane`` (empty when the plane has no field).
+
+        A plane simulated without its target gets it from ``target_source`` when there is one.
+        """
         if plane not in self.planes:
             return {}
         result = self.planes[plane]
+        if result.target is None and self.target_source is not None:
+            result = dataclasses.replace(result, target=self.target_source(result))
         upstream = []
         for name, blocked in self.losses:
             upstream.append((name, blocked))
@@ -115,7 +130,9 @@ class WaveSimulator:
     """Simulates realizations of one layout; built once per study (targets are cached).
 
     ``record_frames``: also make each camera's frame (pixel integration and quantisation);
-    studies leave it off unless a metric needs the frame.
+    studies leave it off unless a metric needs the frame. ``lazy_targets``: a call through
+    ``__call__`` (the Evaluator's) makes targets only when a metric context asks for one;
+    ``simulate(with_targets=True)`` always makes them all.
     """
 
     layout: Layout
@@ -126,11 +143,14 @@ class WaveSimulator:
     record_frames: bool = False
     plugin_matrices: Mapping = field(default_factory=dict)
     plugin_masks: Mapping = field(default_factory=dict)
-    _targets: dict = field(default_factory=dict, init=False, repr=False)
+    lazy_targets: bool = True
+    _targets: OrderedDict = field(default_factory=OrderedDict, init=False, repr=False)
+    _target_starts: dict = field(default_factory=dict, init=False, repr=False)
     _phases: dict = field(default_factory=dict, init=False, repr=False)
     _phase_map: np.ndarray | None = field(default=None, init=False, repr=False)
 
     def __post_init__(self) -> None:
+        apply_fft_backend_from_environment()  # BENCHCHECK_FFT_BACKEND=pyfftw: optional faster FFT
         self.dtype = np.complex128 if self.layout.simulation.precision == "double" else np.complex64
         self.source_power = self.layout.power or 1.0
         for element in self.layout.elements:
@@ -142,6 +162,9 @@ class WaveSimulator:
     # -- public -------------------------------------------------------------------------------
 
     def __call__(self, realization: Realization, trace: TraceResult) -> SimulationResult:
+        if self.lazy_targets:
+            return dataclasses.replace(self.simulate(realization, trace, with_targets=False),
+                                       target_source=self._target_of)
         return self.simulate(realization, trace)
 
     def simulate(self, realization: Realization, trace: TraceResult, with_targets: bool = True) -> SimulationResult:
@@ -153,8 +176,9 @@ class WaveSimulator:
             self._run_path(realization, trace, observation, planes, losses, notes, state)
         if with_targets:
             planes = {name: self._with_target(result) for name, result in planes.items()}
+        # One NaN or Inf sample makes the power sum NaN or Inf: one np.vdot pass per plane.
         faults = tuple(f"{name}: the field holds NaN or Inf" for name, result in planes.items()
-                       if not np.isfinite(result.field.values).all())
+                       if not math.isfinite(result.field.power))
         return SimulationResult(planes, self.source_power, state["incident_power"], tuple(losses),
                                 state["charge"], tuple(notes), faults)
 
@@ -222,6 +246,7 @@ class WaveSimulator:
             pitch = element.value("pixel_pitch")
             size = size or _auto_size(arriving.w, pitch)
             replicas = self._replicas(realization, trace, masks, name)
+            check_wave_grid(size, self.dtype, name, expansion=2 * replicas + 1)  # before allocating
             nominal_element = realization.bench.element(name)
             design = arriving_beam(self.nominal_trace, name, self.layout.wavelength, self.layout.source.m2)
             design_beam = DesignBeam(design.w, (design.position[0] - nominal_element.x,
@@ -237,7 +262,7 @@ class WaveSimulator:
         reach = max(arriving.w) * DEFAULT_WINDOW_RADII
         if element.type == "aperture" and element.value("diameter") is not None:
             reach = max(reach, 0.625 * element.value("diameter"))
-        size = size or _MIN_GRID * 2
+        size = check_wave_grid(size or _MIN_GRID * 2, self.dtype, name)  # before allocating
         pitch = 2 * reach / size
         center = arriving.position
         grid = Grid((size, size), (pitch, pitch), center)
@@ -268,32 +293,65 @@ class WaveSimulator:
 
     # -- targets ------------------------------------------------------------------------------
 
-    def _with_target(self, result: PlaneResult) -> PlaneResult:
+    #: Targets kept by (plane, grid): a study's trials land on grids of their own, so only
+    #: the latest few (the nominal grid among them) are worth keeping.
+    TARGETS_KEPT = 4
+
+    def _target_of(self, result: PlaneResult) -> Field | None:
         key = (result.name, result.field.grid)
-        if key not in self._targets:
+        if key in self._targets:
+            self._targets.move_to_end(key)
+        else:
             self._targets[key] = self._target(result.name, result.field.grid)
-        return dataclasses.replace(result, target=self._targets[key])
+            while len(self._targets) > self.TARGETS_KEPT:
+                self._targets.popitem(last=False)
+        return self._targets[key]
+
+    def _with_target(self, result: PlaneResult) -> PlaneResult:
+        return dataclasses.replace(result, target=self._target_of(result))
 
     def _target(self, plane: str, grid: Grid) -> Field | None:
         """The ideal field at ``plane`` on ``grid``: ideal hologram, nominal stages, no masks."""
+        start = self._target_start(plane)
+        if start is None:
+            return None
+        before, stage = start
+        if stage is None:
+            return before if before.grid == grid else None
+        try:
+            field_now = propagate(before, stage.matrix_x, stage.matrix_y, output_grid=grid, plane=plane,
+                                  workers=self.workers).field
+        except SamplingError:
+            return None
+        return field_now if field_now.grid == grid else None
+
+    def _target_start(self, plane: str):
+        """(nominal ideal field at the mask plane before ``plane``, the stage from there), or
+        (the ideal field at ``plane``, None) when it is the first mask plane; kept per plane."""
+        if plane not in self._target_starts:
+            self._target_starts[plane] = self._nominal_ideal_before(plane)
+        return self._target_starts[plane]
+
+    def _nominal_ideal_before(self, plane: str):
         realization, trace = self.nominal, self.nominal_trace
         observation = next((o for o in self.observations if plane in realization.bench.path_to(o)), None)
         if observation is None:
             return None
         masks = mask_planes(realization, trace, observation, self.plugin_masks)
+        if plane not in masks:
+            return None
         masks = masks[: masks.index(plane) + 1]
         field_now, _ = self._first_field(realization, trace, masks[0], masks, {}, ideal=True)
-        for previous, name in zip(masks, masks[1:]):
+        if len(masks) == 1:
+            return field_now, None
+        for previous, name in zip(masks[:-2], masks[1:-1]):
             stage = stage_between(realization, trace, previous, name, self.plugin_matrices)
-            output = grid if name == plane else None
             try:
-                field_now = propagate(field_now, stage.matrix_x, stage.matrix_y, output_grid=output, plane=name,
+                field_now = propagate(field_now, stage.matrix_x, stage.matrix_y, plane=name,
                                       workers=self.workers).field
             except SamplingError:
                 return None
-        if field_now.grid != grid:
-            return None
-        return field_now
+        return field_now, stage_between(realization, trace, masks[-2], plane, self.plugin_matrices)
 
 
 def start_notes(realization: Realization, trace: TraceResult, name: str, field: Field, cells) -> list[str]:

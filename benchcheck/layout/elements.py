@@ -239,7 +239,7 @@ def read_hologram(
             values[key] = reader.integer(value, where, minimum=-1000, maximum=1000)
         elif kind == "number":
             values[key] = _positive(reader, reader.number(value, where), where)
-        elif kind == "string":
+        elif kind in ("string", "path"):  # a path is text; the file is read (and checked) when simulating
             values[key] = reader.string(value, where)
         elif kind == "bool":
             if not isinstance(value, bool):

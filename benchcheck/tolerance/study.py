@@ -21,6 +21,7 @@ import numpy as np
 
 from benchcheck.errors import BenchcheckError
 from benchcheck.layout.model import Layout
+from benchcheck.limits import check_trials, current_limits
 from benchcheck.safety import LASER_SAFETY_CAUTION
 from benchcheck.tolerance.dofs import Dof, resolve_dofs
 from benchcheck.tolerance.runfile import (
@@ -201,22 +202,27 @@ class _Progress:
 
 
 def _run_here(runner: TrialRunner, sampler: Sampler, pending: Sequence[int], progress: _Progress) -> None:
-    for batch in _batches(pending, MAX_BATCH):
+    vectorised = runner.paraxial_batch is not None
+    for batch in _batches(pending, runner.batch_size(MAX_BATCH)):
+        if vectorised:  # one vectorised trace per batch (milliseconds for the whole batch)
+            for record in runner.run_batch(_draw(sampler, batch)):
+                progress.add(record)
+            continue
         for index, perturbation, seed in _draw(sampler, batch):
             progress.add(runner.run(index, perturbation, seed))
 
 
 def _run_in_pool(layout: Layout, sampler: Sampler, pending: Sequence[int], progress: _Progress,
-                 workers: int, plugin_options: PluginOptions) -> None:
+                 workers: int, plugin_options: PluginOptions, batch_limit: int = MAX_BATCH) -> None:
     if not layout.path or not Path(layout.path).is_file():
         raise BenchcheckError("worker processes load the layout from its file; this layout has none "
                               "(use workers=1)")
-    size = max(1, min(MAX_BATCH, math.ceil(len(pending) / (workers * 8))))
+    size = max(1, min(batch_limit, math.ceil(len(pending) / (workers * 8))))
     with single_threaded_environment():
         pool = concurrent.futures.ProcessPoolExecutor(
             max_workers=workers, mp_context=multiprocessing.get_context("spawn"),
             initializer=initialize_worker,
-            initargs=(os.path.abspath(layout.path), layout.text_hash, plugin_options))
+            initargs=(os.path.abspath(layout.path), layout.text_hash, plugin_options, current_limits()))
     futures = []
     try:
         with single_threaded_environment():
@@ -254,6 +260,8 @@ def run_study(
     force: bool = False,
     progress: Callable[[int, int], None] | None = None,
     plugin_options: PluginOptions | None = None,
+    executor: str = "processes",
+    scheduler=None,
 ) -> StudyResult:
     """Run a Monte Carlo tolerance study of a layout.
 
@@ -277,6 +285,12 @@ def run_study(
         ``progress(completed, total)`` after each finished trial.
     plugin_options : PluginOptions, optional
         How worker processes make their plugin manager.
+    executor : {"processes", "dask"}
+        ``"processes"``: here (``workers`` = 1) or in local worker processes; ``"dask"``: on
+        the dask.distributed cluster at ``scheduler`` (``benchcheck.tolerance.cluster``),
+        with the same per-trial draws and results.
+    scheduler : str or dask.distributed.Client, optional
+        The scheduler's address for ``executor="dask"``.
 
     Returns
     -------
@@ -299,6 +313,8 @@ def run_study(
         raise BenchcheckError(f"unknown sampler '{sampler_kind}' (one of {', '.join(SAMPLERS)})")
     if workers < 1:
         raise BenchcheckError(f"--workers must be at least 1, got {workers}")
+    if executor not in ("processes", "dask"):
+        raise BenchcheckError(f"unknown executor '{executor}' (processes or dask)")
     plugin_options = plugin_options or PluginOptions()
     if plugin_manager is None:
         plugin_manager = make_plugin_manager(disabled=plugin_options.disabled, autoload=plugin_options.autoload)
@@ -322,6 +338,7 @@ def run_study(
     trials = settings.trials if trials is None else int(trials)
     if trials < 1:
         raise BenchcheckError(f"--trials must be at least 1, got {trials}")
+    check_trials(trials)  # before any trial is drawn or the run file is made
     if writer is None and run_file is not None:
         header = RunHeader(layout=str(layout.path), layout_hash=layout.text_hash, seed=seed,
                            sampler=sampler_kind, trials=trials, dofs=tuple(dof.name for dof in dofs))
@@ -333,10 +350,16 @@ def run_study(
     try:
         if progress is not None:
             progress(len(done), trials)
-        if workers == 1 or len(pending) <= 1:
+        if executor == "dask":
+            from benchcheck.tolerance.cluster import run_on_dask
+
+            batches = [_draw(sampler_object, batch) for batch in _batches(pending, MAX_BATCH // 4)] if pending else []
+            run_on_dask(layout, batches, state.add, scheduler, plugin_options)
+        elif workers == 1 or len(pending) <= 1:
             _run_here(runner, sampler_object, pending, state)
         else:
-            _run_in_pool(layout, sampler_object, pending, state, workers, plugin_options)
+            _run_in_pool(layout, sampler_object, pending, state, workers, plugin_options,
+                         runner.batch_size(MAX_BATCH))
     except KeyboardInterrupt:
         raise StudyInterrupted(len(done), trials, state.run_file, 130) from None
     except StopRequested as stop:

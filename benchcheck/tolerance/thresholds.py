@@ -23,6 +23,7 @@ import numpy as np
 from scipy.optimize import brentq
 
 from benchcheck.layout.model import Spec
+from benchcheck.errors import SamplingError
 from benchcheck.tolerance.dofs import Dof
 
 __all__ = [
@@ -44,7 +45,9 @@ START_FRACTION = 1.0 / 16.0
 #: Geometric search steps per doubling of the excursion (a factor sqrt(2) per step).
 STEPS_PER_DOUBLING = 2
 #: Errors a trace of a far-out excursion may raise; treated as "no valid bench here".
-_TRACE_FAULTS = (ValueError, ArithmeticError)
+# A realization the engines cannot evaluate (a singular stage, an overfilled window) counts
+# as failing: the bench at that excursion does not deliver a valid beam.
+_TRACE_FAULTS = (ValueError, ArithmeticError, SamplingError)
 #: Physical quantities that cannot cross zero (the search stops at 90 % of the way there).
 _SIGN_KEEPING_DOFS = ("focal_length", "radius", "thickness", "diameter", "pixel_pitch", "wavelength", "waist")
 

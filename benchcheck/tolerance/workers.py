@@ -19,6 +19,7 @@ import numpy as np
 
 from benchcheck.errors import BenchcheckError, SamplingError
 from benchcheck.layout.model import Layout
+from benchcheck.limits import LimitError, Limits, apply_limits
 from benchcheck.tolerance.runfile import TrialRecord
 
 __all__ = [
@@ -27,6 +28,7 @@ __all__ = [
     "TrialRunner",
     "build_evaluator",
     "build_runner",
+    "use_one_fft_thread",
     "single_threaded_environment",
     "initialize_worker",
     "run_batch_in_worker",
@@ -98,9 +100,11 @@ class TrialRunner:
             else:
                 result = self.evaluator.evaluate(perturbation)
         except BenchcheckError as error:
-            if not isinstance(error, SamplingError):
+            # A trial the engines cannot sample, or whose automatic grid would pass a resource
+            # cap, is a fault of that trial: recorded with its reason, the study goes on.
+            if not isinstance(error, (SamplingError, LimitError)):
                 raise
-            return TrialRecord(index, seed, perturbation, faults=(f"SamplingError: {error}",))
+            return TrialRecord(index, seed, perturbation, faults=(f"{type(error).__name__}: {error}",))
         except NUMERICAL_FAULTS as error:
             return TrialRecord(index, seed, perturbation, faults=(f"{type(error).__name__}: {error}",))
         metrics = {key: _clean(value) for key, value in result.metrics.items()}
@@ -120,12 +124,41 @@ class TrialRunner:
             faults=tuple(faults),
         )
 
+    @property
+    def paraxial_batch(self):
+        """The vectorised runner of paraxial-only studies, or None (built on first use)."""
+        if not hasattr(self, "_paraxial_batch"):
+            from benchcheck.tolerance.paraxial_batch import paraxial_batch_runner
+
+            self._paraxial_batch = paraxial_batch_runner(self.evaluator, self.layout, self.run)
+        return self._paraxial_batch
+
+    def batch_size(self, default: int) -> int:
+        """Trials worth handing over at once: many more when a batch is one vectorised trace."""
+        return max(default, 1024) if self.paraxial_batch is not None else default
+
     def run_batch(self, batch: Sequence[tuple[int, Mapping[str, float], Mapping[str, object]]]) -> list[TrialRecord]:
+        """Records of a batch; paraxial-only studies are traced as one vectorised batch
+        (``benchcheck.tolerance.paraxial_batch``, same records), others trial by trial."""
+        if self.paraxial_batch is not None:
+            return self.paraxial_batch.run_batch(batch)
         return [self.run(index, perturbation, seed) for index, perturbation, seed in batch]
 
 
 def build_runner(layout: Layout, plugin_manager) -> TrialRunner:
     return TrialRunner(build_evaluator(layout, plugin_manager), layout)
+
+
+def use_one_fft_thread(runner: TrialRunner) -> TrialRunner:
+    """Run each trial's transforms on one thread (worker processes, cluster workers).
+
+    Parallelism is across trials there; FFT threads on top of it oversubscribe the cores
+    (threads of two pools at once on two cores ran 2-60x slower when measured).
+    """
+    simulate = getattr(runner.evaluator, "simulate", None)
+    if simulate is not None and hasattr(simulate, "workers"):
+        simulate.workers = 1
+    return runner
 
 
 @contextmanager
@@ -150,21 +183,24 @@ def single_threaded_environment() -> Iterator[None]:
 _WORKER_RUNNER: TrialRunner | None = None
 
 
-def initialize_worker(layout_path: str, layout_hash: str, plugin_options: PluginOptions) -> None:
+def initialize_worker(layout_path: str, layout_hash: str, plugin_options: PluginOptions,
+                      limits: Limits | None = None) -> None:
     """Per-worker start: load the layout and build the evaluator once.
 
     Ctrl-C is left to the parent process, which stops the pool and writes what finished.
+    ``limits`` are the parent's resource limits and readable folders (``benchcheck.limits``).
     """
     global _WORKER_RUNNER
     signal.signal(signal.SIGINT, signal.SIG_IGN)
-    from benchcheck.layout.loader import load_layout
+    apply_limits(limits)
+    from benchcheck.api import load_layout
     from benchcheck.plugin_manager import make_plugin_manager
 
-    layout = load_layout(layout_path)
+    plugin_manager = make_plugin_manager(disabled=plugin_options.disabled, autoload=plugin_options.autoload)
+    layout = load_layout(layout_path, plugin_manager)  # with the plugins' element types and patterns
     if layout.text_hash != layout_hash:
         raise BenchcheckError(f"{layout_path} changed while the study was starting")
-    plugin_manager = make_plugin_manager(disabled=plugin_options.disabled, autoload=plugin_options.autoload)
-    _WORKER_RUNNER = build_runner(layout, plugin_manager)
+    _WORKER_RUNNER = use_one_fft_thread(build_runner(layout, plugin_manager))
 
 
 def run_batch_in_worker(batch) -> list[TrialRecord]:

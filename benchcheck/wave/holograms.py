@@ -157,7 +157,9 @@ def grating_phase(coords: PixelCoordinates, period_px: float, angle: float = 0.0
     if float(period_px).is_integer() and abs(quarter_turns - round(quarter_turns)) < 1e-12:
         n = int(period_px)
         step_x, step_y = [(1, 0), (0, 1), (-1, 0), (0, -1)][int(round(quarter_turns)) % 4]
-        return (TWO_PI / n) * np.mod(step_x * coords.ix + step_y * coords.iy, n)
+        # constant along one axis: compute the one varying row or column, then broadcast
+        index = step_x * coords.ix if step_y == 0 else step_y * coords.iy
+        return np.broadcast_to((TWO_PI / n) * np.mod(index, n), coords.shape)
     cycles = (coords.ix * np.cos(angle) + coords.iy * np.sin(angle)) / period_px
     return TWO_PI * (cycles - np.floor(cycles))
 
@@ -414,13 +416,14 @@ def compose_hologram(
     if lens is not None:
         extra = extra + lens_phase(coords, float(lens), design_wavelength)
     if output.phase is not None:
-        total = np.asarray(output.phase, dtype=float) + extra
+        total = np.add(np.asarray(output.phase, dtype=float), extra, out=extra)
     else:
         try:
             method = resolve_encoding(encoding)
         except ValueError as error:
             raise LayoutError(str(error), field="encoding") from None
-        total = encode(output.amplitude, extra, method)
-    wrapped = np.mod(total, TWO_PI)
+        total = np.array(encode(output.amplitude, extra, method), dtype=float)
+    wrapped = np.mod(total, TWO_PI, out=total)  # in place: one phase-sized array in all
     # np.mod of a tiny negative number rounds up to exactly 2π; keep the half-open range
-    return np.where(wrapped >= TWO_PI, 0.0, wrapped)
+    wrapped[wrapped >= TWO_PI] = 0.0
+    return wrapped

@@ -157,12 +157,13 @@ def displayed_phase(
 
 
 def displayed_modulation(
-    device: ModulatorDevice, phase: np.ndarray, wavelength: float, oversample: int = 1
+    device: ModulatorDevice, phase: np.ndarray, wavelength: float, oversample: int = 1, dtype=np.complex128
 ) -> np.ndarray:
     """Complex per-pixel (or per-sample) modulation exp(i ψ) of the real device.
 
-    Same arguments as :func:`displayed_phase`; returns complex128 of unit modulus. The
-    pixel aperture and dead space are applied later by the wave stage.
+    Same arguments as :func:`displayed_phase`, and ``dtype`` (complex128 or complex64) of the
+    result, which has unit modulus. The pixel aperture and dead space are applied later by the
+    wave stage.
     """
     if device.phase_levels is not None and device.crosstalk == 0 and oversample == 1:
         # A quantised panel without fringing shows one of `levels` values: look them up
@@ -171,11 +172,12 @@ def displayed_modulation(
         if values.shape != device.shape:
             raise LayoutError(f"hologram shape {values.shape} does not match the panel {device.shape} (rows, columns)")
         levels = int(device.phase_levels)
-        wrapped = np.mod(values, TWO_PI)
-        index = np.mod(np.rint(wrapped * (levels / TWO_PI)).astype(np.int64), levels)
+        scaled = np.mod(values, TWO_PI) * (levels / TWO_PI)
+        index = np.rint(scaled, out=scaled).astype(np.intp)
+        index[index >= levels] = 0  # a wrapped phase in [0, 2π) rounds to level `levels` only at the top
         table = np.exp(1j * (np.arange(levels) * (TWO_PI / levels)) * (device.design_wavelength / wavelength))
-        return table[index]
-    return np.exp(1j * displayed_phase(device, phase, wavelength, oversample))
+        return table.astype(dtype)[index]
+    return np.exp(1j * displayed_phase(device, phase, wavelength, oversample)).astype(dtype, copy=False)
 
 
 def pixel_centers(device: ModulatorDevice) -> tuple[np.ndarray, np.ndarray]:

@@ -1,0 +1,280 @@
+"""Full tolerance trials of the 4f example against the FFT floor, a step-by-step reference,
+worker scaling and a projection to 10,000 trials (run by hand; nothing here is a test).
+
+    python3 benchmarks/trial_speed.py [--grids 256 512 1024] [--study-grid 1024]
+                                      [--study-trials 200] [--reference-grid 1024]
+
+Every number is measured side by side in one run and printed as a ratio:
+
+* per-trial time of the Evaluator on drawn trials, against the FFT floor: the same number
+  of ``scipy.fft`` 2-D transforms of the same size and precision that the trial's own field
+  needs (two for the modulator stage with its flat dead space, one per further Fourier
+  stage). Two variants: a spec that reads the field only (efficiency at the camera) and one
+  that also reads the target (mode purity), which costs one more stage for the target when
+  a dof changed the sampled grid. With pyFFTW installed, the same with its backend;
+* peak traced memory of one trial in field-sized arrays;
+* a study of the 4f example with 1 and 2 worker processes (spawn), trials per second with
+  and without start-up, and the time 10,000 trials would take with 2 workers;
+* the collapsed stages against a plain step-by-step reference written here: band-limited
+  angular-spectrum propagation (Matsushima and Shimobaba, Opt. Express 17, 19662 (2009))
+  through every gap, each lens a phase mask exp(−iπ r²/(λf)) (thin lens, DESIGN.md §4), the
+  iris as a mask, on one grid fine and wide enough for every step; mode purity of both at
+  the camera and the time of each.
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+import re
+import tempfile
+import time
+import tracemalloc
+from pathlib import Path
+
+import numpy as np
+import scipy.fft
+import scipy.ndimage
+import scipy.signal
+
+from benchcheck.api import load_layout
+from benchcheck.evaluate.factory import make_evaluator
+from benchcheck.evaluate.masks import aperture_mask
+from benchcheck.plugin_manager import make_plugin_manager
+from benchcheck.tolerance.dofs import resolve_dofs
+from benchcheck.tolerance.samplers import Sampler
+from benchcheck.tolerance.study import run_study
+from benchcheck.wave.fft_backend import fft_backend_available, use_fft_backend
+from benchcheck.wave.field import Field
+from benchcheck.wave.grid import Grid
+from benchcheck.wave.pixel_cells import upsample_cells
+from benchcheck.wave.sums import inner_product, power_sum
+
+__all__ = ["main"]
+
+LAYOUT = Path(__file__).resolve().parents[1] / "layouts" / "relay_4f_vortex.toml"
+SPECS = {
+    "field": '\n[[spec]]\nmetric = "efficiency"\nat = "cam"\nmin = 0.5\nname = "bench efficiency"\n',
+    "target": '\n[[spec]]\nmetric = "mode_purity"\nat = "cam"\nmin = 0.5\nname = "bench purity"\n',
+}
+
+
+def _layout_copy(folder: Path, grid: int, spec: str, fill_factor: float | None = None) -> Path:
+    """A temp copy of the 4f example with one wave spec added and the grid set.
+
+    Below 1024 pixels the modulator's pitch grows by 1024 / grid, so the window (8.2 mm) and
+    the beam stay those of the example; the carrier becomes 4 pixels long and the iris moves to
+    its first order (grating equation, x = λ f / Λ), which then stays inside the central period
+    of the pixel spectrum (no replica periods, as at 1024).
+    """
+    text = LAYOUT.read_text()
+    if grid != 1024:
+        scale = 1024 // grid
+        period = 4 * 8 * scale  # carrier period in µm
+        text = text.replace('pixel_pitch = "8 um"', f'pixel_pitch = "{8 * scale} um"')
+        text = text.replace("carrier = { period_px = 8,", "carrier = { period_px = 4,")
+        text = text.replace('center = ["4.99 mm", "0 mm"]', f'center = ["{4.99 * 64 / period:.6g} mm", "0 mm"]')
+    text = text.replace("[simulation]\ngrid = 1024", f"[simulation]\ngrid = {grid}")
+    if f"grid = {grid}" not in text:
+        text += f"\n[simulation]\ngrid = {grid}\n"
+    if fill_factor is not None:
+        text = text.replace("fill_factor = 0.93", f"fill_factor = {fill_factor}")
+    # keep the example's paraxial specs; its own wave specs give way to the one measured here
+    text = re.sub(r'\[\[spec\]\]\nmetric = "(?!beam_radius"|offset")[^\n]*\n(?:[a-z_]+ = [^\n]*\n)*\n?', "", text)
+    path = folder / f"relay_{spec}_{grid}.toml"
+    path.write_text(text + SPECS[spec])
+    return path
+
+
+def _best(function, repeat: int) -> float:
+    times = []
+    for _ in range(repeat):
+        start = time.perf_counter()
+        function()
+        times.append(time.perf_counter() - start)
+    return min(times)
+
+
+def _floor(grid: int, transforms: int, repeat: int) -> float:
+    field = (np.random.default_rng(1).standard_normal((grid, grid)) + 0j).astype(np.complex64)
+
+    def run():
+        for _ in range(transforms):
+            scipy.fft.fft2(field, workers=-1)
+
+    return _best(run, repeat)
+
+
+def _trial_times(path: Path, trials: int) -> tuple[float, int, float]:
+    """(median seconds per trial over drawn trials, transforms, peak traced bytes of one trial)."""
+    layout = load_layout(path)
+    evaluator = make_evaluator(layout)
+    perturbations = Sampler(tuple(resolve_dofs(layout)), "random", 11).perturbations(0, trials + 1)
+    nominal = evaluator.evaluate(wave=True)  # builds the nominal caches, as a study's first trial does
+    stages = sum(1 for plane in nominal.simulation.planes.values() if plane.method != "start")
+    transforms = stages + 1  # the flat dead space's transform at the modulator stage
+    times = []
+    for perturbation in perturbations[1:]:
+        start = time.perf_counter()
+        evaluator.evaluate(perturbation)
+        times.append(time.perf_counter() - start)
+    tracemalloc.start()
+    evaluator.evaluate(perturbations[0])
+    _, peak = tracemalloc.get_traced_memory()
+    tracemalloc.stop()
+    return float(np.median(times)), transforms, peak
+
+
+def _study_rates(path: Path, trials: int, workers: int) -> tuple[float, float]:
+    """(trials/s from the first finished trial to the last, trials/s with start-up)."""
+    marks: dict[str, float] = {}
+
+    def progress(completed: int, total: int) -> None:
+        now = time.perf_counter()
+        if completed == 0:
+            marks["start"] = now
+        elif completed == 1 or "first" not in marks:
+            marks["first"] = now
+            marks["first_count"] = completed
+        if completed == total:
+            marks["end"] = now
+
+    run_study(load_layout(path), make_plugin_manager(), trials=trials, workers=workers, progress=progress)
+    steady = (trials - marks["first_count"]) / max(marks["end"] - marks["first"], 1e-9)
+    overall = trials / max(marks["end"] - marks["start"], 1e-9)
+    return steady, overall
+
+
+# -- the step-by-step reference ---------------------------------------------------------------
+
+def _angular_spectrum(values: np.ndarray, pitch: float, distance: float, wavelength: float) -> np.ndarray:
+    """Band-limited paraxial angular-spectrum step (Matsushima and Shimobaba, Opt. Express 17,
+    19662 (2009): frequencies past 1/(λ sqrt((2 Δf z)² + 1)) are cut so the sampled transfer
+    function does not alias)."""
+    n = values.shape[0]
+    frequency = scipy.fft.fftfreq(n, pitch)
+    limit = 1.0 / (wavelength * math.sqrt((2.0 * distance / (n * pitch)) ** 2 + 1.0))
+    transfer = np.exp(-1j * np.pi * wavelength * distance * frequency**2) * (np.abs(frequency) <= limit)
+    transfer = transfer.astype(np.complex64)
+    spectrum = scipy.fft.fft2(values, workers=-1)
+    spectrum *= transfer[:, np.newaxis]
+    spectrum *= transfer[np.newaxis, :]
+    return scipy.fft.ifft2(spectrum, workers=-1, overwrite_x=True)
+
+
+def _reference_camera_field(evaluator, start: Field, with_masks: bool) -> tuple[Field, np.ndarray]:
+    """Carry the modulator's field to the camera gap by gap on one grid (see the docstring)."""
+    realization = evaluator.realization()
+    path = realization.bench.path_to("cam")
+    names = path[path.index(start.plane):]
+    values, grid, wavelength = start.values, start.grid, start.wavelength
+    x, y = grid.mesh()
+    previous_z = realization.element(names[0]).z
+    for name in names[1:]:
+        element = realization.element(name)
+        values = _angular_spectrum(values, grid.pitch[0], element.z - previous_z, wavelength)
+        previous_z = element.z
+        if element.type == "lens":
+            r2 = (x - element.x) ** 2 + (y - element.y) ** 2
+            values = values * np.exp(-1j * np.pi * r2 / (wavelength * element.value("focal_length"))).astype(np.complex64)
+        elif element.type == "aperture" and with_masks:
+            values = values * aperture_mask(element, grid).astype(np.float32)
+    return Field(values, grid, wavelength, "cam"), values
+
+
+def _reference(path: Path) -> dict:
+    """Mode purity at the camera by the collapsed stages and by the step-by-step reference."""
+    layout = load_layout(path)
+    evaluator = make_evaluator(layout)
+    simulator = evaluator.simulate
+    start = time.perf_counter()
+    trial = evaluator.evaluate(wave=True)
+    ours_time = time.perf_counter() - start
+    ours_purity = trial.metrics["cam.mode_purity"]
+    realization, trace = evaluator.realization(), evaluator.nominal
+    masks = ["slm"]
+    modulator, cells = simulator._first_field(realization, trace, "slm", masks + ["cam"], {})
+    ideal, ideal_cells = simulator._first_field(realization, trace, "slm", masks + ["cam"], {}, ideal=True)
+    path_names = realization.bench.path_to("cam")
+    focal_length = next(realization.element(name).value("focal_length") for name in path_names[1:]
+                        if realization.element(name).type == "lens")
+    carrier_period = realization.element("slm").value("hologram")["carrier"]["period_px"]
+    start = time.perf_counter()
+    fields = []
+    for field, field_cells, with_masks in ((modulator, cells, True), (ideal, ideal_cells, False)):
+        # two sub-samples per pixel, embedded in a window wide enough for the ±1 carrier
+        # orders at the Fourier plane (λ f / Λ from the axis). The device's field has box
+        # pixels (exact at fill factor 1); the target is the ideal hologram, a band-limited
+        # field (its per-pixel samples interpolated with scipy.signal.resample, then moved a
+        # quarter pixel onto the sub-pixel grid with scipy.ndimage.fourier_shift).
+        upsampled, _, _ = upsample_cells(field, field_cells)
+        if not with_masks:
+            smooth = scipy.signal.resample(scipy.signal.resample(field.values, 2 * field.grid.ny, axis=0),
+                                           2 * field.grid.nx, axis=1)
+            smooth = scipy.fft.ifft2(scipy.ndimage.fourier_shift(scipy.fft.fft2(smooth), (0.5, 0.5)))
+            upsampled = upsampled.replace(values=smooth.astype(np.complex64))
+        order_reach = layout.wavelength * focal_length / (carrier_period * field.grid.pitch[0])
+        width = 2 * (order_reach + 0.5 * upsampled.grid.extent[0])
+        size = scipy.fft.next_fast_len(int(math.ceil(width / upsampled.grid.pitch[0])))
+        window = np.zeros((size, size), np.complex64)
+        offset = (size - upsampled.grid.nx) // 2
+        window[offset:offset + upsampled.grid.ny, offset:offset + upsampled.grid.nx] = upsampled.values
+        grid = Grid((size, size), upsampled.grid.pitch,
+                    (upsampled.grid.x[0] + (size // 2 - offset) * upsampled.grid.pitch[0],
+                     upsampled.grid.y[0] + (size // 2 - offset) * upsampled.grid.pitch[1]))
+        fields.append(_reference_camera_field(evaluator, Field(window, grid, field.wavelength, "slm"), with_masks)[1])
+    reference_time = time.perf_counter() - start
+    overlap = inner_product(fields[1], fields[0])
+    reference_purity = abs(overlap) ** 2 / (power_sum(fields[0]) * power_sum(fields[1]))
+    return {"ours": ours_purity, "reference": reference_purity, "ours_s": ours_time, "reference_s": reference_time,
+            "reference_size": fields[0].shape[0], "grid": modulator.grid.nx}
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--grids", type=int, nargs="+", default=[256, 512, 1024])
+    parser.add_argument("--trials", type=int, default=8, help="drawn trials timed per grid")
+    parser.add_argument("--study-grid", type=int, default=1024)
+    parser.add_argument("--study-trials", type=int, default=200)
+    parser.add_argument("--reference-grid", type=int, default=1024)
+    parser.add_argument("--repeat", type=int, default=5)
+    args = parser.parse_args()
+    backends = ["scipy"] + (["pyfftw"] if fft_backend_available("pyfftw") else [])
+    with tempfile.TemporaryDirectory() as folder:
+        folder = Path(folder)
+        print("per-trial time of the 4f example (Evaluator, drawn trials, median) against the FFT floor")
+        for backend in backends:
+            use_fft_backend(backend)
+            for grid in args.grids:
+                for spec in ("field", "target"):
+                    trial, transforms, peak = _trial_times(_layout_copy(folder, grid, spec), args.trials)
+                    floor = _floor(grid, transforms, args.repeat)
+                    field_bytes = grid * grid * np.dtype(np.complex64).itemsize
+                    print(f"  {backend:6s} grid {grid:5d} {spec:6s} spec: trial {trial * 1e3:8.1f} ms, "
+                          f"{transforms} fft2 {floor * 1e3:7.1f} ms, ratio {trial / floor:5.2f} "
+                          f"(target <= 1.5 at 512 and above); peak {peak / field_bytes:5.1f} field-sized arrays")
+        use_fft_backend("scipy")
+        print(f"study of the 4f example at {args.study_grid} x {args.study_grid}, {args.study_trials} trials, "
+              "mode purity spec")
+        study_path = _layout_copy(folder, args.study_grid, "target")
+        one, one_overall = _study_rates(study_path, args.study_trials, 1)
+        two, two_overall = _study_rates(study_path, args.study_trials, 2)
+        print(f"  1 worker : {one:8.2f} trials/s ({one_overall:.2f} with start-up)")
+        print(f"  2 workers: {two:8.2f} trials/s ({two_overall:.2f} with start-up)")
+        print(f"  ratio 2 workers / 1: {two / one:5.2f} without start-up, {two_overall / one_overall:5.2f} with "
+              "(target >= 1.8)")
+        projected = 10_000 / two
+        print(f"  projected 10,000 trials with 2 workers: {projected / 60:6.1f} min "
+              f"({1e3 / two:.0f} ms per trial; target under 10 min)")
+        result = _reference(_layout_copy(folder, args.reference_grid, "target", fill_factor=1.0))
+        difference = abs(result["ours"] - result["reference"]) / result["reference"]
+        print(f"collapsed stages ({result['grid']} pixels) against the step-by-step reference "
+              f"({result['reference_size']} x {result['reference_size']} samples), fill factor 1:")
+        print(f"  mode purity {result['ours']:.5f} against {result['reference']:.5f}: relative difference "
+              f"{difference:.2%} (target within 1 %)")
+        print(f"  time {result['ours_s'] * 1e3:.0f} ms against {result['reference_s'] * 1e3:.0f} ms: "
+              f"ratio {result['reference_s'] / result['ours_s']:.1f} (target >= 10)")
+
+
+if __name__ == "__main__":
+    main()

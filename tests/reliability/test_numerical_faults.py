@@ -1,0 +1,129 @@
+"""Faulty trials are marked with their reason and counted apart; plugins that raise, return
+NaN or hang are named, and the study finishes."""
+
+from __future__ import annotations
+
+import threading
+import time
+
+import pytest
+
+from benchcheck import hookimpl
+from benchcheck.api import load_layout
+from benchcheck.errors import SamplingError
+from benchcheck.metrics import Metric, MetricContext, MetricRegistry, evaluate_metrics
+from benchcheck.plugin_manager import make_plugin_manager
+from benchcheck.tolerance.study import run_study
+from benchcheck.tolerance.workers import build_runner
+from tests.reliability.conftest import write_mirror_bench
+
+RELEASE = threading.Event()  # lets an abandoned, sleeping metric finish when the test ends
+
+
+def _tilted_up(context: MetricContext) -> bool:
+    # The mirror's tilt about x moves the chief ray in y (DESIGN.md section 4).
+    return context.beam.offset[1] > 0
+
+
+class FaultyPlugin:
+    """Metrics that misbehave on the trials whose beam lands above the axis."""
+
+    @hookimpl
+    def benchcheck_register_metrics(self):
+        def nan_above(context):
+            return float("nan") if _tilted_up(context) else 1.0
+
+        def raise_above(context):
+            if _tilted_up(context):
+                raise RuntimeError("cannot handle this beam")
+            return 1.0
+
+        def hang_above(context):
+            if _tilted_up(context):
+                RELEASE.wait(30)
+            return 1.0
+
+        common = dict(needs_field=False, unit="", description="test metric", source="none (a test fixture)")
+        return [Metric("nan_above", nan_above, **common), Metric("raise_above", raise_above, **common),
+                Metric("hang_above", hang_above, **common)]
+
+
+@pytest.fixture(scope="module")
+def faulty_plugins():
+    return make_plugin_manager(extra_plugins=[("faulty_metrics", FaultyPlugin())])
+
+
+@pytest.fixture(autouse=True, scope="module")
+def release_sleepers():
+    yield
+    RELEASE.set()
+
+
+def test_a_focal_length_driven_through_zero_is_a_fault_not_a_crash(tmp_path, plugin_manager):
+    # f + Δf = 0 has no thin-lens ray matrix (C = -1/f; Siegman, Lasers (1986), ch. 15).
+    runner = build_runner(load_layout(write_mirror_bench(tmp_path)), plugin_manager)
+    record = runner.run(0, {"L1.focal_length": -0.4}, {})
+    assert not record.valid and not record.passed and "non-zero focal length" in record.faults[0]
+    assert runner.run(1, {"L1.focal_length": -0.8}, {}).valid  # a negative lens is fine
+
+
+@pytest.mark.parametrize("metric, says", [
+    ("nan_above", "from plugin 'faulty_metrics' gave a non-finite value (nan)"),
+    ("raise_above", "from plugin 'faulty_metrics' failed at plane 'screen': RuntimeError: cannot handle this beam"),
+])
+def test_a_metric_that_fails_on_some_trials_is_counted_apart(tmp_path, faulty_plugins, metric, says):
+    extra = f'[[spec]]\nmetric = "{metric}"\nat = "screen"\nmax = 2'
+    result = run_study(load_layout(write_mirror_bench(tmp_path, trials=30, extra_spec=extra), faulty_plugins),
+                       faulty_plugins)
+    faulty = [r.index for r in result.records if r.faults]
+    assert faulty and len(faulty) < 30
+    data = result.to_dict()
+    assert data["faults"]["count"] == len(faulty) and data["valid_trials"] == 30 - len(faulty)
+    assert says in data["faults"]["reasons"][0]["example"]
+    # Faulty trials never reach the statistics: every averaged value comes from a valid trial.
+    assert data["yield"] == data["passed_trials"] / data["valid_trials"]
+    valid_offsets = [r.metrics["screen.offset"] for r in result.records if r.valid]
+    assert data["metrics"]["screen.offset"]["mean"] == pytest.approx(sum(valid_offsets) / len(valid_offsets),
+                                                                      rel=1e-12)  # float summation order only
+
+
+def test_a_hanging_metric_is_abandoned_after_its_time_limit(tmp_path, faulty_plugins):
+    # The [[spec]] option metric_time_limit sets the limit at that plane: 0.2 s here.
+    extra = '[[spec]]\nmetric = "hang_above"\nat = "screen"\nmax = 2\nmetric_time_limit = "0.2 s"'
+    result = run_study(load_layout(write_mirror_bench(tmp_path, trials=6, extra_spec=extra), faulty_plugins),
+                       faulty_plugins)
+    faults = [fault for record in result.records for fault in record.faults]
+    assert faults and len(result.records) == 6
+    assert all("'hang_above' from plugin 'faulty_metrics' did not finish within 0.2 s" in fault for fault in faults)
+    assert result.to_dict()["faults"]["count"] == len(faults)
+
+
+def test_time_limit_argument_and_a_metric_that_raises_timeout_itself():
+    def slow(context):
+        time.sleep(0.5)
+        return 1.0
+
+    def raises_timeout(context):
+        raise TimeoutError("the metric's own time-out")
+
+    registry = MetricRegistry()
+    common = dict(needs_field=False, unit="", description="test", source="none (a test fixture)")
+    registry.add(Metric("slow", slow, **common), "slow_plugin")
+    registry.add(Metric("own_timeout", raises_timeout, **common), "other_plugin")
+    slow_outcome, own = evaluate_metrics(registry, ["slow", "own_timeout"], MetricContext("p", 1e-6), time_limit=0.05)
+    assert "did not finish within 0.05 s" in slow_outcome.error and "slow_plugin" in slow_outcome.error
+    assert "TimeoutError: the metric's own time-out" in own.error  # not mistaken for the limit
+    fast = evaluate_metrics(registry, ["slow"], MetricContext("p", 1e-6), time_limit=5)
+    assert fast[0].value == 1.0
+
+
+def test_a_stage_that_cannot_sample_is_a_fault(tmp_path, plugin_manager):
+    runner = build_runner(load_layout(write_mirror_bench(tmp_path)), plugin_manager)
+    runner.evaluator.needs_wave = True
+
+    def simulate(realization, trace):
+        raise SamplingError("stage to plane 'screen': the output window lies outside the image")
+
+    runner.evaluator.simulate = simulate
+    record = runner.run(3, {"M1.tilt_x": 1e-4}, {})
+    assert record.faults == ("SamplingError: stage to plane 'screen': the output window lies outside the image",)

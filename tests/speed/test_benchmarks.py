@@ -1,0 +1,43 @@
+"""Smoke runs of the benchmark scripts with tiny sizes: they run and print their ratios.
+
+Nothing here is about time (timings on a shared machine are not a test): each script must
+exit 0 and print the lines it is for.
+"""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+BENCHMARKS = Path(__file__).resolve().parents[2] / "benchmarks"
+
+
+def _run(script: str, *arguments: str) -> str:
+    completed = subprocess.run([sys.executable, str(BENCHMARKS / script), *arguments], capture_output=True,
+                               text=True, timeout=600, cwd=BENCHMARKS.parent, check=False)
+    assert completed.returncode == 0, completed.stderr[-2000:]
+    return completed.stdout
+
+
+@pytest.mark.slow
+def test_trial_speed_prints_its_ratios():
+    output = _run("trial_speed.py", "--grids", "128", "--trials", "1", "--study-grid", "128",
+                  "--study-trials", "4", "--reference-grid", "128", "--repeat", "1")
+    assert "ratio" in output and "fft2" in output
+    assert "ratio 2 workers / 1" in output and "projected 10,000 trials" in output
+    assert "mode purity" in output and "step-by-step reference" in output
+
+
+@pytest.mark.slow
+def test_tolerance_speed_prints_its_ratios():
+    output = _run("tolerance_speed.py", "--trials", "64")
+    assert "ratio 2 workers / 1" in output and "vectorised" in output
+
+
+@pytest.mark.slow
+def test_simulate_speed_prints_its_ratios():
+    output = _run("simulate_speed.py", "--grid", "256", "--repeat", "1")
+    assert "ratio to the FFT floor" in output
