@@ -50,6 +50,7 @@ TOP_LEVEL_TABLES = (
 # uses by default are lower and are checked before allocating, with the option to raise them.
 MAX_GRID = GRID_CEILING
 MAX_TRIALS = TRIALS_CEILING
+_WORD = re.compile(r"^[A-Za-z_]+$")
 SOURCE_DOFS = ("wavelength", "waist", "waist_z", "m2", "x", "y", "tilt_x", "tilt_y")
 
 
@@ -338,8 +339,7 @@ class _LayoutBuilder:
             if minimum is not None and maximum is not None and minimum > maximum:
                 raise self.error(place.at("min"), f"min ({table['min']}) is above max ({table['max']})")
             options = {
-                key: (self.reader.si_value(value, place.at(key)) if not isinstance(value, (bool, dict, list))
-                      else value)
+                key: self._option_value(value, place.at(key))
                 for key, value in table.items() if key not in ("metric", "at", "min", "max", "name")
             }
             name = self.reader.string(table.get("name", ""), place.at("name")) if "name" in table else ""
@@ -349,6 +349,14 @@ class _LayoutBuilder:
                               line=self.source_map.table_line("spec", index), options=frozen_mapping(options),
                               bare_bounds=bare))
         return specs
+
+    def _option_value(self, value: Any, place: Place) -> Any:
+        """A spec option: a quantity in SI, or a plain word (``about = "beam"``) kept as text."""
+        if isinstance(value, (bool, dict, list)):
+            return value
+        if isinstance(value, str) and _WORD.match(value) and value not in self.reader.params:
+            return value
+        return self.reader.si_value(value, place)
 
     def _tolerancing(self, elements: list[Element]) -> Tolerancing:
         table = self._table("tolerancing")

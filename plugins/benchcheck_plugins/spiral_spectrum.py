@@ -139,21 +139,46 @@ def spiral_spectrum(
     return charges[order], weights[order] / total
 
 
+def _reference_axis(context: MetricContext, field: Field):
+    """The axis the spectrum is taken about: position (m) and direction (slopes, rad).
+
+    Option ``about = "target"`` (default): the target axis, fixed in the bench, so a beam
+    that is displaced or tilted against it loses purity (as an analyser aligned to the
+    nominal bench sees it; a tilt is a displacement in the Fourier plane). ``about =
+    "beam"``: the beam's own centroid and chief-ray direction (by the trace of this very
+    trial), so only the mode's own quality counts; pointing is then for the offset and
+    angle metrics.
+    """
+    about = context.options.get("about", "target")
+    if about == "target":
+        return context.axis, context.axis_angle
+    if about != "beam":
+        raise MetricUnavailable(f"option about = {about!r}: use \"target\" or \"beam\"")
+    intensity = field.intensity.astype(np.float64)
+    total = intensity.sum()
+    if not total > 0:
+        raise MetricUnavailable("the field carries no power in the window")
+    centroid = (float(intensity.sum(axis=0) @ field.grid.x / total), float(intensity.sum(axis=1) @ field.grid.y / total))
+    absolute = getattr(context.beam, "absolute", None)
+    slopes = tuple(absolute.angle_in) if absolute is not None else context.axis_angle
+    return centroid, slopes
+
+
 def oam_purity(context: MetricContext) -> float:
-    """Weight of the intended charge in the spiral spectrum about the target axis."""
+    """Weight of the intended charge in the spiral spectrum about the target axis (or the beam's)."""
     if context.intended_charge is None:
         raise MetricUnavailable("the hologram at this bench intends no OAM charge")
     field = field_of(context)
-    slope_x, slope_y = context.axis_angle
+    axis, (slope_x, slope_y) = _reference_axis(context, field)
     if slope_x or slope_y:
-        # A beam arriving along a tilted axis carries exp(ik(sx x + sy y)); about its own axis
+        # A beam arriving along a tilted axis carries exp(ik(sx x + sy y)); about that axis
         # the spiral spectrum is that of the field with this linear phase taken out.
         wavenumber = 2 * math.pi / context.wavelength
-        ramp_x = np.exp(-1j * wavenumber * slope_x * (field.grid.x - context.axis[0]))
-        ramp_y = np.exp(-1j * wavenumber * slope_y * (field.grid.y - context.axis[1]))
+        ramp_x = np.exp(-1j * wavenumber * slope_x * (field.grid.x - axis[0]))
+        ramp_y = np.exp(-1j * wavenumber * slope_y * (field.grid.y - axis[1]))
         field = field.replace(values=field.values * np.multiply.outer(ramp_y, ramp_x))
     radius = float_option(context, "roi_radius", None)
-    charges, weights = spiral_spectrum(field, context.axis, radius)
+    charges, weights = spiral_spectrum(field, axis, radius)
     matches = np.flatnonzero(charges == int(context.intended_charge))
     if matches.size == 0:
         raise MetricUnavailable(
@@ -167,5 +192,6 @@ def metrics() -> list[Metric]:
     return [
         Metric("oam_purity", oam_purity, True, "",
                "Weight of the intended OAM charge in the spiral spectrum about the target axis "
-               "(option roi_radius in m limits the rings).", _SOURCE),
+               "(option about = \"beam\": about the beam's own centroid and direction; option "
+               "roi_radius in m limits the rings).", _SOURCE, needs_target=False),
     ]
