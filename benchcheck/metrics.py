@@ -81,6 +81,10 @@ class Metric:
         standard and clause).
     plugin : str
         Name of the plugin that registered it; filled in by ``MetricRegistry.add``.
+    needs_target : bool
+        False when the metric never reads ``MetricContext.target``: a study then does not
+        carry the target onto each trial's grid for it (default True: a plugin that says
+        nothing gets the target).
     """
 
     name: str
@@ -90,6 +94,7 @@ class Metric:
     description: str
     source: str
     plugin: str = ""
+    needs_target: bool = True
 
 
 @dataclass(frozen=True)

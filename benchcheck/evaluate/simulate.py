@@ -84,15 +84,16 @@ class SimulationResult:
     faults: tuple[str, ...] = ()
     target_source: Callable[[PlaneResult], Field | None] | None = field(default=None, repr=False, compare=False)
 
-    def context_for(self, plane: str) -> dict:
+    def context_for(self, plane: str, with_target: bool = True) -> dict:
         """The wave part of a MetricContext at ``plane`` (empty when the plane has no field).
 
-        A plane simulated without its target gets it from ``target_source`` when there is one.
+        A plane simulated without its target gets it from ``target_source`` when there is one
+        and ``with_target`` says a metric there reads it.
         """
         if plane not in self.planes:
             return {}
         result = self.planes[plane]
-        if result.target is None and self.target_source is not None:
+        if with_target and result.target is None and self.target_source is not None:
             result = dataclasses.replace(result, target=self.target_source(result))
         upstream = []
         for name, blocked in self.losses:

@@ -166,7 +166,9 @@ class Evaluator:
                 names.append(spec.metric)
         contexts = {}
         for plane, names in by_plane.items():
-            context = self.context(plane, trace, simulation, realization)
+            needs_target = any(self.registry.get(name).needs_field and getattr(self.registry.get(name), "needs_target", True)
+                               for name in names)
+            context = self.context(plane, trace, simulation, realization, needs_target=needs_target)
             contexts[plane] = context
             outcomes.extend(evaluate_metrics(self.registry, names, context))
         values = {f"{o.plane}.{o.name}": o.value for o in outcomes}
@@ -183,8 +185,9 @@ class Evaluator:
         return TrialResult(values, tuple(outcomes), tuple(specs), trace, simulation, tuple(faults))
 
     def context(self, plane: str, trace: TraceResult, simulation, realization: Realization,
-                options: Mapping | None = None) -> MetricContext:
-        """The MetricContext at ``plane`` for one trial."""
+                options: Mapping | None = None, needs_target: bool = True) -> MetricContext:
+        """The MetricContext at ``plane`` for one trial (without the target when no metric
+        there reads it: a study then skips carrying the target onto the trial's grid)."""
         beam = trace.plane(plane)
         nominal = self.nominal.plane(plane)
         relative = RelativeBeam(
@@ -199,7 +202,10 @@ class Evaluator:
             if spec.at == plane:
                 spec_options.update(spec.options)
         spec_options.update(options or {})
-        wave = simulation.context_for(plane) if simulation is not None else {}
+        wave = {}
+        if simulation is not None:
+            # the plain call keeps other simulations' context_for (no keyword) working
+            wave = simulation.context_for(plane) if needs_target else simulation.context_for(plane, with_target=False)
         return MetricContext(
             plane=plane,
             wavelength=realization.wavelength,

@@ -28,6 +28,9 @@ __all__ = ["EXECUTORS", "layout_text", "evaluate_batch_on_worker", "run_on_dask"
 #: Where a study's trials run: here or in local worker processes, or on a dask cluster.
 EXECUTORS = ("processes", "dask")
 
+#: How long to wait for the scheduler before giving up with one clear message.
+CONNECT_TIMEOUT = "20s"
+
 #: Trial runners built on this worker, by (layout hash, plugin options, thread).
 _RUNNERS: dict[tuple, TrialRunner] = {}
 _RUNNERS_LOCK = threading.Lock()
@@ -105,7 +108,7 @@ def run_on_dask(layout: Layout, batches: Sequence[Sequence[tuple[int, dict, dict
         if not scheduler:
             raise BenchcheckError("--executor dask needs --scheduler ADDRESS (for example tcp://10.0.0.5:8786)")
         try:
-            client = Client(scheduler, timeout="20s")
+            client = Client(scheduler, timeout=CONNECT_TIMEOUT)
         except (OSError, TimeoutError) as error:
             raise BenchcheckError(f"cannot reach the dask scheduler at {scheduler} ({error})") from None
     else:

@@ -76,14 +76,14 @@ def metrics() -> list[Metric]:
     """The second-moment family."""
     return [
         Metric("d4sigma", d4sigma, True, "m",
-               "Largest of the x and y second-moment (D4σ) beam widths.", _SOURCE),
+               "Largest of the x and y second-moment (D4σ) beam widths.", _SOURCE, needs_target=False),
         Metric("d4sigma_x", d4sigma_x, True, "m",
-               "Second-moment (D4σ) beam width along x.", _SOURCE),
+               "Second-moment (D4σ) beam width along x.", _SOURCE, needs_target=False),
         Metric("d4sigma_y", d4sigma_y, True, "m",
-               "Second-moment (D4σ) beam width along y.", _SOURCE),
+               "Second-moment (D4σ) beam width along y.", _SOURCE, needs_target=False),
         Metric("centroid_offset", centroid_offset, True, "m",
-               "Distance of the intensity centroid from the target axis.", _SOURCE),
+               "Distance of the intensity centroid from the target axis.", _SOURCE, needs_target=False),
         Metric("ellipticity", ellipticity, True, "",
                "Smaller over larger D4σ width along the principal axes (1 = round).",
-               "ellipticity from principal-axis D4σ widths, ISO 11146-1"),
+               "ellipticity from principal-axis D4σ widths, ISO 11146-1", needs_target=False),
     ]

@@ -154,11 +154,11 @@ def metrics() -> list[Metric]:
         Metric("plateau_uniformity", plateau_uniformity, True, "",
                "FWHM of the plateau peak of the power-density histogram over the peak power "
                "density (0 = perfectly flat; resolution 1/histogram_bins).",
-               _SOURCE + ", plateau uniformity"),
+               _SOURCE + ", plateau uniformity", needs_target=False),
         Metric("edge_steepness", edge_steepness, True, "",
                "Share of the area above 10 % of the peak power density that lies below 90 % "
-               "of it (0 = vertical edges).", _SOURCE + ", edge steepness"),
+               "of it (0 = vertical edges).", _SOURCE + ", edge steepness", needs_target=False),
         Metric("flatness", flatness, True, "",
                "Mean power density above plateau_fraction (0.5) of the peak, over the peak "
-               "(1 = perfectly flat).", _SOURCE + ", flatness factor"),
+               "(1 = perfectly flat).", _SOURCE + ", flatness factor", needs_target=False),
     ]

@@ -64,9 +64,9 @@ def metrics() -> list[Metric]:
         Metric("power", power_fraction, True, "",
                "Fraction of the source power inside the region of interest (option roi_radius "
                "in m about the target axis; the whole window without it)." + caution,
-               _POWER_SOURCE),
+               _POWER_SOURCE, needs_target=False),
         Metric("efficiency", efficiency, True, "",
                "Power inside the region of interest divided by the power incident on the "
                "modulator." + caution,
-               _POWER_SOURCE),
+               _POWER_SOURCE, needs_target=False),
     ]

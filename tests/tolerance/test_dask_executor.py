@@ -62,8 +62,9 @@ def test_dask_executor_without_a_scheduler_is_refused(tmp_path, plugin_manager):
         run_study(layout, plugin_manager, executor="dask", scheduler=None)
 
 
-def test_an_unreachable_scheduler_is_one_clear_error(tmp_path):
+def test_an_unreachable_scheduler_is_one_clear_error(tmp_path, monkeypatch):
     # port 9 on loopback (discard) has no scheduler: one message, exit code 2
+    monkeypatch.setattr("benchcheck.tolerance.cluster.CONNECT_TIMEOUT", "2s")
     path = write_layout(tmp_path, trials=4)
     result = Run(["tolerance", str(path), "--executor", "dask", "--scheduler", "tcp://127.0.0.1:9"])
     assert result.code == 2
