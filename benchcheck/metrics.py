@@ -19,6 +19,7 @@ from types import MappingProxyType
 from typing import TYPE_CHECKING, Any
 
 from benchcheck.errors import PluginError
+from benchcheck.registration import registered_objects
 from benchcheck.metric_watchdog import DEFAULT_METRIC_TIME_LIMIT, MetricTimedOut, run_with_time_limit
 from benchcheck.wave.field import Field
 
@@ -254,24 +255,10 @@ class MetricRegistry:
             or two plugins register the same name.
         """
         registry = cls()
-        caller = plugin_manager.hook.benchcheck_register_metrics
-        # get_hookimpls() lists implementations in registration (load) order.
-        for implementation in caller.get_hookimpls():
-            plugin = implementation.plugin_name
-            try:
-                metrics = implementation.function()
-            except Exception as error:  # a plugin's bug must not hide which plugin it was
-                raise PluginError(
-                    f"plugin '{plugin}' failed in benchcheck_register_metrics: "
-                    f"{type(error).__name__}: {error}"
-                ) from error
-            if isinstance(metrics, (str, bytes)) or not isinstance(metrics, Iterable):
-                raise PluginError(
-                    f"plugin '{plugin}': benchcheck_register_metrics returned {metrics!r}, "
-                    "not a list of Metric objects"
-                )
-            for metric in metrics:
-                registry.add(metric, plugin)
+        # Implementations come in registration (load) order; add() checks each object.
+        for plugin, metric in registered_objects(plugin_manager, "benchcheck_register_metrics", None,
+                                                 "Metric objects"):
+            registry.add(metric, plugin)
         return registry
 
 

@@ -6,11 +6,12 @@ something else is named; a name registered twice is refused naming both plugins.
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterable
+from collections.abc import Callable
 from dataclasses import dataclass, replace
 
 from benchcheck.errors import PluginError
 from benchcheck.layout.element_types import ElementType, builtin_element_types
+from benchcheck.registration import registered_objects
 from benchcheck.wave.holograms import HologramPattern, builtin_patterns
 
 __all__ = ["Registries", "collect_registries"]
@@ -39,22 +40,6 @@ class Registries:
         return {name: kind.mask for name, kind in self.element_types.items() if kind.mask}
 
 
-def _collected(plugin_manager, hook_name: str, kind: type, what: str) -> Iterable[tuple[str, object]]:
-    caller = getattr(plugin_manager.hook, hook_name)
-    for implementation in caller.get_hookimpls():
-        plugin = implementation.plugin_name
-        try:
-            items = implementation.function()
-        except Exception as error:  # name the plugin whose hook failed
-            raise PluginError(f"plugin '{plugin}' failed in {hook_name}: {type(error).__name__}: {error}") from error
-        if isinstance(items, (str, bytes)) or not isinstance(items, Iterable):
-            raise PluginError(f"plugin '{plugin}': {hook_name} returned {items!r}, not a list of {what}")
-        for item in items:
-            if not isinstance(item, kind):
-                raise PluginError(f"plugin '{plugin}' registered {item!r}; {hook_name} must return {what}")
-            yield plugin, item
-
-
 def collect_registries(plugin_manager=None) -> Registries:
     """First-party element types and patterns, plus those of every loaded plugin."""
     element_types = builtin_element_types()
@@ -62,7 +47,7 @@ def collect_registries(plugin_manager=None) -> Registries:
     if plugin_manager is None:
         return Registries(element_types, patterns)
     owners: dict[str, str] = {}
-    for plugin, element_type in _collected(plugin_manager, "benchcheck_register_element_types",
+    for plugin, element_type in registered_objects(plugin_manager, "benchcheck_register_element_types",
                                            ElementType, "ElementType objects"):
         if element_type.name in element_types:
             first = owners.get(element_type.name, "benchcheck (first party)")
@@ -72,7 +57,7 @@ def collect_registries(plugin_manager=None) -> Registries:
             raise PluginError(f"plugin '{plugin}': element type '{element_type.name}' has no ray_matrices")
         element_types[element_type.name] = replace(element_type, plugin=plugin)
         owners[element_type.name] = f"plugin '{plugin}'"
-    for plugin, pattern in _collected(plugin_manager, "benchcheck_register_hologram_patterns",
+    for plugin, pattern in registered_objects(plugin_manager, "benchcheck_register_hologram_patterns",
                                       HologramPattern, "HologramPattern objects"):
         if pattern.name in patterns:
             first = owners.get("pattern:" + pattern.name, "benchcheck (first party)")

@@ -9,9 +9,9 @@ from __future__ import annotations
 
 import dataclasses
 import re
-from collections.abc import Iterable
 
 from benchcheck.errors import PluginError
+from benchcheck.registration import registered_objects
 from benchcheck.review.types import ReviewRule
 
 __all__ = ["HOOK_NAME", "collect_review_rules"]
@@ -20,19 +20,6 @@ HOOK_NAME = "benchcheck_register_review_rules"
 
 # Rule names appear in tables and JSON; keep them plain identifiers.
 _RULE_NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
-
-
-def _registered(plugin_manager) -> Iterable[tuple[str, object]]:
-    for implementation in getattr(plugin_manager.hook, HOOK_NAME).get_hookimpls():
-        plugin = implementation.plugin_name
-        try:
-            items = implementation.function()
-        except Exception as error:  # name the plugin whose hook failed
-            raise PluginError(f"plugin '{plugin}' failed in {HOOK_NAME}: {type(error).__name__}: {error}") from error
-        if isinstance(items, (str, bytes)) or not isinstance(items, Iterable):
-            raise PluginError(f"plugin '{plugin}': {HOOK_NAME} returned {items!r}, not a list of ReviewRule objects")
-        for item in items:
-            yield plugin, item
 
 
 def collect_review_rules(plugin_manager) -> dict[str, ReviewRule]:
@@ -55,7 +42,7 @@ def collect_review_rules(plugin_manager) -> dict[str, ReviewRule]:
         plugin), a rule without a plain name, or a rule name registered twice (naming both).
     """
     rules: dict[str, ReviewRule] = {}
-    for plugin, rule in _registered(plugin_manager):
+    for plugin, rule in registered_objects(plugin_manager, HOOK_NAME, None, "ReviewRule objects"):
         if not isinstance(rule, ReviewRule):
             raise PluginError(f"plugin '{plugin}' registered {rule!r}; {HOOK_NAME} must return ReviewRule objects")
         if not _RULE_NAME.match(rule.name):
