@@ -41,9 +41,13 @@ __all__ = [
 #: finite negative number so the root finder still sees a sign change.
 MISSING_VALUE_SLACK = -1.0
 #: The outward search starts at this fraction of the tolerance (our own choice).
-START_FRACTION = 1.0 / 16.0
-#: Geometric search steps per doubling of the excursion (a factor sqrt(2) per step).
-STEPS_PER_DOUBLING = 2
+START_FRACTION = 1.0 / 8.0
+#: Geometric search steps per doubling of the excursion (a factor 2 per step: a failure window
+#: narrower than that between two steps could be missed; the Monte Carlo still sees it).
+STEPS_PER_DOUBLING = 1
+#: Root-finding tolerance, as a share of the dof's tolerance: margins are reported to four
+#: digits, and each evaluation of a wave spec is a full simulation.
+THRESHOLD_XTOL = 1e-6
 #: Errors a trace of a far-out excursion may raise; treated as "no valid bench here".
 # A realization the engines cannot evaluate (a singular stage, an overfilled window) counts
 # as failing: the bench at that excursion does not deliver a valid beam.
@@ -199,7 +203,7 @@ def _one_sign(probe: SlackProbe, dof: Dof, sign: int, reach: float, search_facto
             if inner_slack == 0:
                 crossing = inner
             else:
-                crossing = brentq(slack, inner, outer, xtol=1e-9 * dof.limit, rtol=1e-10)
+                crossing = brentq(slack, inner, outer, xtol=THRESHOLD_XTOL * dof.limit, rtol=1e-8)
             # Judge just past the crossing to name the spec that breaks there.
             past = min(crossing + 1e-6 * dof.limit, outer)
             value, label = probe.worst({dof.name: sign * past})
