@@ -2,23 +2,16 @@
 
 from __future__ import annotations
 
-import argparse
 
 from rich.table import Table
 
 from benchcheck.api import diff, load_layout
-from benchcheck.cli.output import print_json, print_notes, print_safety, show
+from benchcheck.cli.output import print_json, print_notes, print_safety, show, positive_integer
 from benchcheck.diff import DEFAULT_DIFF_TRIALS, format_value
 from benchcheck.tolerance.dofs import DOF_UNITS
 
 __all__ = ["register", "run"]
 
-
-def _positive(text: str) -> int:
-    value = int(text)
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"must be at least 1, got {text}")
-    return value
 
 
 def register(subparsers) -> None:
@@ -31,7 +24,7 @@ def register(subparsers) -> None:
     parser.add_argument("layout_b", metavar="B", help="the layout compared with it")
     parser.add_argument("--json", action="store_true", help="print JSON in SI units")
     parser.add_argument("--tolerance", action="store_true", help="also run a Monte Carlo study of each layout")
-    parser.add_argument("--trials", type=_positive, default=DEFAULT_DIFF_TRIALS,
+    parser.add_argument("--trials", type=positive_integer, default=DEFAULT_DIFF_TRIALS,
                         help=f"trials per study with --tolerance (default {DEFAULT_DIFF_TRIALS})")
     parser.add_argument("--seed", type=int, help="one seed for both studies (default: each layout's own)")
     parser.add_argument("--paraxial-only", action="store_true",

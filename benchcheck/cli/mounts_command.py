@@ -7,17 +7,11 @@ import argparse
 from rich.table import Table
 
 from benchcheck.api import load_layout, plan_mounts
-from benchcheck.cli.output import layout_argument, print_json, print_notes, show
+from benchcheck.cli.output import layout_argument, print_json, print_notes, show, positive_integer
 from benchcheck.tolerance.dofs import DOF_UNITS
 
 __all__ = ["register", "run"]
 
-
-def _positive(text: str) -> int:
-    value = int(text)
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"must be at least 1, got {text}")
-    return value
 
 
 def _fraction(text: str) -> float:
@@ -38,7 +32,7 @@ def register(subparsers) -> None:
     )
     layout_argument(parser)
     parser.add_argument("--json", action="store_true", help="print JSON in SI units (DESIGN.md section 6)")
-    parser.add_argument("--trials", type=_positive, help="Monte Carlo trials (default: [tolerancing] trials)")
+    parser.add_argument("--trials", type=positive_integer, help="Monte Carlo trials (default: [tolerancing] trials)")
     parser.add_argument("--seed", type=int, help="seed (default: [tolerancing] seed)")
     parser.add_argument("--yield-target", type=_fraction, metavar="YIELD",
                         help="share of trials that must pass (default: [tolerancing] yield_target)")

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import argparse
 import json
 import math
 from typing import Any
@@ -12,7 +13,7 @@ from rich.markup import escape
 from benchcheck.safety import LASER_SAFETY_CAUTION
 from benchcheck.units import format_quantity
 
-__all__ = ["print_json", "print_notes", "print_safety", "show", "layout_argument"]
+__all__ = ["print_json", "print_notes", "print_safety", "show", "layout_argument", "positive_integer"]
 
 
 def _clean(value: Any) -> Any:
@@ -49,6 +50,14 @@ def show(value_si: float | None, unit: str, digits: int = 4) -> str:
     if abs(value_si) < 1e-13:  # rounding residue of a zero (SI metres or radians)
         value_si = 0.0
     return format_quantity(value_si, unit, digits).replace(f" {unit}", "") if unit else f"{value_si:.{digits}g}"
+
+
+def positive_integer(text: str) -> int:
+    """An argparse type: a whole number of at least 1 (trial counts, workers)."""
+    value = int(text)
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"must be at least 1, got {text}")
+    return value
 
 
 def layout_argument(parser) -> None:

@@ -14,7 +14,7 @@ from rich.table import Table
 from rich.text import Text
 
 from benchcheck.api import load_layout, tolerance
-from benchcheck.cli.output import layout_argument, print_json, print_notes, print_safety, show
+from benchcheck.cli.output import layout_argument, print_json, print_notes, print_safety, show, positive_integer
 from benchcheck.errors import BenchcheckError
 from benchcheck.tolerance.dofs import DOF_UNITS, resolve_dofs
 from benchcheck.tolerance.samplers import SAMPLERS
@@ -35,12 +35,6 @@ def _fraction(text: str) -> float:
     return value
 
 
-def _positive(text: str) -> int:
-    value = int(text)
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"must be at least 1, got {text}")
-    return value
-
 
 def register(subparsers) -> None:
     parser = subparsers.add_parser(
@@ -49,10 +43,10 @@ def register(subparsers) -> None:
                     "each trial, and summarise the yield, the metric spread and what fails first.",
     )
     layout_argument(parser)
-    parser.add_argument("--trials", type=_positive, help="number of trials (default: [tolerancing] trials)")
+    parser.add_argument("--trials", type=positive_integer, help="number of trials (default: [tolerancing] trials)")
     parser.add_argument("--seed", type=int, help="seed of the study (default: [tolerancing] seed)")
     parser.add_argument("--sampler", choices=SAMPLERS, help="pseudo-random or scrambled Sobol points")
-    parser.add_argument("--workers", type=_positive, default=1, help="worker processes (results do not depend on it)")
+    parser.add_argument("--workers", type=positive_integer, default=1, help="worker processes (results do not depend on it)")
     parser.add_argument("--executor", choices=("processes", "dask"), default="processes",
                         help="where trials run: here or in local worker processes, or on a dask cluster")
     parser.add_argument("--scheduler", metavar="ADDRESS",
