@@ -25,6 +25,7 @@ from scipy import special
 
 from benchcheck.bench.graph import SOURCE, Bench
 from benchcheck.layout.model import MAIN_ARM
+from benchcheck.optics.element_actions import deflection_of
 
 __all__ = ["BatchTrace", "batch_supported", "trace_batch", "SUPPORTED_TYPES"]
 
@@ -258,23 +259,9 @@ def _plate_matrices(thickness, index, tilt_x, tilt_y):
 
 
 def _deflection(element, excursions, wavelength):
-    """Vectorised ``element_actions.hologram_deflection``."""
-    hologram = element.value("hologram") or {}
+    """Vectorised ``element_actions.hologram_deflection``: the real pitch per trial."""
     pitch_x, pitch_y = _pitch(element, excursions)
-    slope_x = slope_y = 0.0
-    gratings = []
-    if hologram.get("pattern") == "grating" and "period_px" in hologram:
-        gratings.append((hologram["period_px"], hologram.get("angle", 0.0)))
-    if "carrier" in hologram:
-        gratings.append((hologram["carrier"]["period_px"], hologram["carrier"].get("angle", 0.0)))
-    for period_px, angle in gratings:
-        slope_x = slope_x + wavelength * math.cos(angle) / (period_px * pitch_x)
-        slope_y = slope_y + wavelength * math.sin(angle) / (period_px * pitch_y)
-    power = 0.0
-    for focal_length in (hologram.get("lens"), hologram.get("focal_length") if hologram.get("pattern") == "lens" else None):
-        if focal_length:
-            power += 1.0 / focal_length
-    return slope_x, slope_y, power
+    return deflection_of(element.value("hologram") or {}, pitch_x, pitch_y, wavelength)
 
 
 def _action(element, excursions: _Excursions, wavelength, w, position, count):

@@ -35,6 +35,7 @@ __all__ = [
     "act",
     "wave_action",
     "hologram_deflection",
+    "deflection_of",
     "reflection_deviation",
 ]
 
@@ -161,8 +162,12 @@ def hologram_deflection(element: Element, wavelength: float) -> tuple[float, flo
     A grating of period Λ deflects the first order by λ/Λ (grating equation, paraxial);
     the period in pixels is shown on the real pitch, so a pitch error moves the order.
     """
-    hologram = element.value("hologram") or {}
     pitch_x, pitch_y = element.value("pixel_pitch")
+    return deflection_of(element.value("hologram") or {}, pitch_x, pitch_y, wavelength)
+
+
+def deflection_of(hologram, pitch_x, pitch_y, wavelength):
+    """:func:`hologram_deflection` from a hologram table and the real pitch (floats or arrays)."""
     slope_x = slope_y = 0.0
     gratings = []
     if hologram.get("pattern") == "grating" and "period_px" in hologram:
@@ -170,8 +175,8 @@ def hologram_deflection(element: Element, wavelength: float) -> tuple[float, flo
     if "carrier" in hologram:
         gratings.append((hologram["carrier"]["period_px"], hologram["carrier"].get("angle", 0.0)))
     for period_px, angle in gratings:
-        slope_x += wavelength * math.cos(angle) / (period_px * pitch_x)
-        slope_y += wavelength * math.sin(angle) / (period_px * pitch_y)
+        slope_x = slope_x + wavelength * math.cos(angle) / (period_px * pitch_x)
+        slope_y = slope_y + wavelength * math.sin(angle) / (period_px * pitch_y)
     power = 0.0
     for focal_length in (hologram.get("lens"), hologram.get("focal_length") if hologram.get("pattern") == "lens" else None):
         if focal_length:
