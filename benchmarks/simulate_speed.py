@@ -64,7 +64,8 @@ def main() -> None:
 
     def first_simulation():
         # The hologram built anew (its cache emptied), as the first simulation of a run does.
-        simulator._phases.clear()
+        for hologram in simulator._holograms.values():
+            hologram.clear()
         simulator.simulate(realization, trace, with_targets=False)
 
     simulation_time = best_of(one_simulation, args.repeat)

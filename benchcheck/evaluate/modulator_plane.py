@@ -2,9 +2,17 @@
 
 The simulation window is a square of whole pixels on the panel, centred on the pixel
 nearest the arriving beam, one sample per pixel. The hologram is computed for the nominal
-device (nominal pitch, the registration shift applied) and shown on the real one (real
-pitch, quantised, phase stroke set by the design wavelength); the pixel aperture and the
-dead space are applied analytically by the wave stage (``PixelCells``).
+device (nominal pitch, nominal registration) and shown on the real one (real pitch,
+quantised, phase stroke set by the design wavelength); the pixel aperture and the dead space
+are applied analytically by the wave stage (``PixelCells``).
+
+A registration error (the ``shift_x``, ``shift_y`` dofs: the hologram sits off the place it
+was computed for, against the beam) is modelled as the modulated field translated by the
+error: pattern and pixels move together, so the pattern is not sampled again at sub-pixel
+offsets. For patterns smooth on the pixel scale the two differ by the quantisation error
+(tests/wave/test_registration.py); the translation keeps the study smooth in the dof, which
+re-optimising a shift needs, and the hologram is computed once per study
+(``benchcheck.evaluate.panel_hologram``).
 """
 
 from __future__ import annotations
@@ -20,7 +28,8 @@ import numpy as np
 from benchcheck.errors import LayoutError
 from benchcheck.layout.model import Element, Layout
 from benchcheck.limits import Limits, current_limits
-from benchcheck.wave.beams import gaussian_field
+from benchcheck.evaluate.panel_hologram import PanelHologram
+from benchcheck.wave.beams import gaussian_profiles
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.holograms import (
@@ -33,10 +42,12 @@ from benchcheck.wave.holograms import (
     lens_phase,
     validate_phase_map,
 )
-from benchcheck.wave.modulator import ModulatorDevice, displayed_modulation
-from benchcheck.wave.pixel_cells import PixelCells
+from benchcheck.wave.modulator import ModulatorDevice
+from benchcheck.wave.pixel_cells import PixelCells, SeparableBackground
+from benchcheck.wave.sums import power_sum
 
-__all__ = ["ModulatorWindow", "modulator_window", "ideal_modulation", "intended_charge", "load_phase_map"]
+__all__ = ["ModulatorWindow", "modulator_window", "panel_hologram", "ideal_modulation", "intended_charge",
+           "load_phase_map"]
 
 _HOLOGRAM_TERMS = ("pattern", "encoding", "carrier", "lens", "compensate_input")
 
@@ -48,8 +59,6 @@ class ModulatorWindow:
     field: Field
     cells: PixelCells
     incident_power: float
-    coordinates: PixelCoordinates
-    on_panel: np.ndarray
 
 
 def _pattern_params(hologram: Mapping) -> dict:
@@ -113,24 +122,26 @@ def _npy_header(stream) -> tuple[tuple[int, ...], np.dtype]:
     return tuple(int(n) for n in shape), np.dtype(dtype)
 
 
-def _window_coordinates(nominal: Element, real: Element, beam_position: tuple[float, float], size: int):
-    """Panel pixels of the window (indices from the panel centre) and which are on the panel."""
+def _window_pixels(nominal: Element, real: Element, beam_position: tuple[float, float], size: int):
+    """Panel pixel indices (from the panel centre) of the window per axis, and which are on the panel."""
     columns, rows = nominal.value("pixels")
     pitch_real = real.value("pixel_pitch")
-    pitch_nominal = nominal.value("pixel_pitch")
-    shift = real.value("shift", (0.0, 0.0))
-    indices = []
+    indices, on_panel = [], []
     for axis, count in enumerate((columns, rows)):
         offset = (beam_position[axis] - (real.x if axis == 0 else real.y)) / pitch_real[axis]
         centre = int(np.clip(round(offset), -(count // 2), count - 1 - count // 2))
-        indices.append(centre + np.arange(size) - size // 2)
-    ix = indices[0][np.newaxis, :]
-    iy = indices[1][:, np.newaxis]
-    on_panel = ((ix + columns // 2 >= 0) & (ix + columns // 2 < columns)) & \
-               ((iy + rows // 2 >= 0) & (iy + rows // 2 < rows))
-    coordinates = PixelCoordinates(ix, iy, ix * pitch_nominal[0] - shift[0], iy * pitch_nominal[1] - shift[1],
-                                   tuple(pitch_nominal))
-    return coordinates, on_panel
+        index = centre + np.arange(size) - size // 2
+        indices.append(index)
+        on_panel.append((index + count // 2 >= 0) & (index + count // 2 < count))
+    return indices, on_panel
+
+
+def _pattern_coordinates(nominal: Element, ix: np.ndarray, iy: np.ndarray) -> PixelCoordinates:
+    """Window pixels where the pattern is evaluated: nominal pitch, nominal registration."""
+    pitch = nominal.value("pixel_pitch")
+    shift = nominal.value("shift", (0.0, 0.0))
+    ix, iy = ix[np.newaxis, :], iy[:, np.newaxis]
+    return PixelCoordinates(ix, iy, ix * pitch[0] - shift[0], iy * pitch[1] - shift[1], tuple(pitch))
 
 
 def compensated_patterns(patterns: Mapping[str, HologramPattern], hologram: Mapping,
@@ -217,6 +228,19 @@ def ideal_modulation(element: Element, coordinates: PixelCoordinates, design_wav
     return np.asarray(output.amplitude) * np.exp(1j * extra)
 
 
+def panel_hologram(nominal: Element, layout: Layout, patterns: Mapping[str, HologramPattern] | None = None,
+                   phase_map: np.ndarray | None = None, design_beam=None) -> PanelHologram:
+    """The drive phase of ``nominal``'s hologram, computed on demand over the panel (kept per study)."""
+    patterns = compensated_patterns(patterns or builtin_patterns(), nominal.value("hologram") or {}, design_beam)
+    design_wavelength = nominal.value("design_wavelength") or layout.wavelength
+
+    def compute_phase(coordinates: PixelCoordinates) -> np.ndarray:
+        return _hologram_phase(nominal, coordinates, design_wavelength, patterns, phase_map)
+
+    return PanelHologram(compute_phase, tuple(nominal.value("pixels")), tuple(nominal.value("pixel_pitch")),
+                         tuple(nominal.value("shift", (0.0, 0.0))))
+
+
 def modulator_window(
     nominal: Element,
     real: Element,
@@ -231,7 +255,7 @@ def modulator_window(
     phase_map: np.ndarray | None = None,
     ideal: bool = False,
     design_beam=None,
-    phase_cache: dict | None = None,
+    hologram: PanelHologram | None = None,
 ) -> ModulatorWindow:
     """Sample the arriving beam on the panel's pixels and apply the displayed hologram.
 
@@ -251,47 +275,43 @@ def modulator_window(
     design_beam : object, optional
         The nominal arriving beam (``w``, ``center`` on the panel's pattern frame), for
         holograms that compensate the incident beam.
-    phase_cache : dict, optional
-        Displayed modulations by window, registration shift, wavelength and device state:
-        the hologram is computed for the nominal device, so trials that change none of
-        these reuse it.
+    hologram : PanelHologram, optional
+        The hologram kept for the study (:func:`panel_hologram`); made here when omitted.
     """
-    patterns = compensated_patterns(patterns or builtin_patterns(), nominal.value("hologram") or {}, design_beam)
     pitch = real.value("pixel_pitch")
-    design_wavelength = nominal.value("design_wavelength") or layout.wavelength
-    coordinates, on_panel = _window_coordinates(nominal, real, arriving.position, size)
-    center = (real.x + float(coordinates.ix[0, size // 2]) * pitch[0],
-              real.y + float(coordinates.iy[size // 2, 0]) * pitch[1])
+    (ix, iy), (on_x, on_y) = _window_pixels(nominal, real, arriving.position, size)
+    nominal_shift, real_shift = nominal.value("shift", (0.0, 0.0)), real.value("shift", (0.0, 0.0))
+    # a registration error translates the modulated field (see the module docstring)
+    center = (real.x + float(ix[size // 2]) * pitch[0] + real_shift[0] - nominal_shift[0],
+              real.y + float(iy[size // 2]) * pitch[1] + real_shift[1] - nominal_shift[1])
     grid = Grid((size, size), pitch, center)
-    incident = gaussian_field(grid, wavelength, arriving.q[0], arriving.q[1], arriving.position, arriving.slope,
-                              power=power, dtype=dtype, plane=real.name)
-    incident_values = incident.values * on_panel
-    incident_power = float(np.vdot(incident_values.ravel(), incident_values.ravel()).real) * grid.sample_area
+    profile_y, profile_x = gaussian_profiles(grid, wavelength, arriving.q[0], arriving.q[1], arriving.position,
+                                             arriving.slope, power=power, dtype=dtype)
+    profile_x[~on_x] = 0.0  # no light off the panel
+    profile_y[~on_y] = 0.0
+    # separable: the power is the product of the profiles' sums
+    incident_power = power_sum(profile_x) * power_sum(profile_y) * grid.sample_area
+    values = np.multiply.outer(profile_y, profile_x)
     if ideal:
-        modulation = ideal_modulation(nominal, coordinates, design_wavelength, patterns, phase_map)
+        design_wavelength = nominal.value("design_wavelength") or layout.wavelength
+        patterns = compensated_patterns(patterns or builtin_patterns(), nominal.value("hologram") or {}, design_beam)
+        values *= ideal_modulation(nominal, _pattern_coordinates(nominal, ix, iy), design_wavelength, patterns,
+                                   phase_map).astype(dtype)
     else:
+        hologram = hologram or panel_hologram(nominal, layout, patterns, phase_map, design_beam)
         depth = real.value("phase_depth", 1.0)
+        design_wavelength = nominal.value("design_wavelength") or layout.wavelength
         device = ModulatorDevice(
             pixel_pitch=pitch, pixels=(size, size), fill_factor=min(real.value("fill_factor", 1.0), 1.0),
             phase_levels=real.value("phase_levels"), design_wavelength=design_wavelength * depth,
             crosstalk=real.value("crosstalk", 0.0), dead_space=real.value("dead_space", "flat"),
         )
-        window_key = (int(coordinates.ix[0, 0]), int(coordinates.iy[0, 0]), size,
-                      tuple(real.value("shift", (0.0, 0.0))))
-        key = window_key + (wavelength, device.design_wavelength, device.phase_levels, device.crosstalk)
-        modulation = phase_cache.get(key) if phase_cache is not None else None
-        if modulation is None:
-            phase = _hologram_phase(nominal, coordinates, design_wavelength, patterns, phase_map)
-            modulation = displayed_modulation(device, phase, wavelength, dtype=dtype)
-            if phase_cache is not None:
-                if len(phase_cache) >= 4:
-                    phase_cache.clear()
-                phase_cache[key] = modulation
-    values = incident_values * modulation.astype(dtype, copy=False)
+        values *= hologram.modulation(ix, iy, device, wavelength, dtype)
     # The layout's fill factor is the datasheet's area share; the square aperture's width
     # share per axis is its square root.
     width_share = math.sqrt(min(real.value("fill_factor", 1.0), 1.0))
     dead_space = "flat" if ideal else real.value("dead_space", "flat")
     cells = PixelCells(pitch=pitch, fill_factor=(1.0, 1.0) if ideal else (width_share, width_share),
-                       background=incident_values.astype(dtype), dead_space=dead_space, replicas=replicas)
-    return ModulatorWindow(Field(values, grid, wavelength, real.name), cells, incident_power, coordinates, on_panel)
+                       background=SeparableBackground(profile_y, profile_x), dead_space=dead_space,
+                       replicas=replicas)
+    return ModulatorWindow(Field(values, grid, wavelength, real.name), cells, incident_power)

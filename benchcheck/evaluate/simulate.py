@@ -28,7 +28,8 @@ import numpy as np
 from benchcheck.bench.realization import Realization
 from benchcheck.errors import SamplingError
 from benchcheck.evaluate.masks import aperture_mask
-from benchcheck.evaluate.modulator_plane import intended_charge, load_phase_map, modulator_window
+from benchcheck.evaluate.modulator_plane import intended_charge, load_phase_map, modulator_window, panel_hologram
+from benchcheck.evaluate.upstream_planes import KeptPlane, UpstreamPlanes
 from benchcheck.evaluate.wave_path import (
     OBSERVATION_TYPES,
     arriving_beam,
@@ -147,7 +148,8 @@ class WaveSimulator:
     lazy_targets: bool = True
     _targets: OrderedDict = field(default_factory=OrderedDict, init=False, repr=False)
     _target_starts: dict = field(default_factory=dict, init=False, repr=False)
-    _phases: dict = field(default_factory=dict, init=False, repr=False)
+    _holograms: dict = field(default_factory=dict, init=False, repr=False)
+    _upstream: UpstreamPlanes = field(default_factory=UpstreamPlanes, init=False, repr=False)
     _phase_map: np.ndarray | None = field(default=None, init=False, repr=False)
 
     def __post_init__(self) -> None:
@@ -194,39 +196,58 @@ class WaveSimulator:
                 current, cells = planes[name].passed, None
                 continue
             element = realization.element(name)
-            if current is None:
-                arriving, cells = self._first_field(realization, trace, name, masks, state)
-                method, stage_notes = "start", tuple(start_notes(realization, trace, name, arriving, cells))
-                leaving_power = None
-            else:
-                stage = stage_between(realization, trace, masks[index - 1], name, self.plugin_matrices)
-                try:
-                    result = propagate(current, stage.matrix_x, stage.matrix_y, plane=name, cells=cells,
-                                       workers=self.workers)
-                except SamplingError as error:
-                    raise SamplingError(f"{error} (fix: a larger [simulation] grid, or check the layout "
-                                        f"around '{name}')") from None
-                arriving = result.field
-                leaving_power = (state["incident_power"] if cells is not None else current.power) * stage.amplitude**2
-                if stage.amplitude != 1.0:
-                    arriving = arriving.replace(values=arriving.values * np.float32(stage.amplitude))
-                method, stage_notes, cells = result.method, result.notes, None
-            passed = arriving
-            if element.type not in OBSERVATION_TYPES and element.type != "modulator":
-                mask = self._mask(element, arriving)
-                passed = arriving.replace(values=arriving.values * mask)
-                # Blocked here: all that left the previous plane and does not pass this mask,
-                # replica orders outside the window included (they land on the mask's plate).
-                leaving = leaving_power if leaving_power is not None else arriving.power
-                losses.append((name, max(leaving - passed.power, 0.0) / self.source_power))
-            frame = None
-            if element.type == "camera" and self.record_frames:
-                frame = camera_frame(arriving, _camera_device(element))
-            nominal = self.nominal_trace.plane(name)
-            planes[name] = PlaneResult(name, arriving, passed, None, nominal.offset_in, nominal.angle_in, frame,
-                                       method, tuple(stage_notes))
-            notes.extend(f"{name}: {note}" for note in stage_notes)
-            current = passed
+            # the modulator's window depends on the next mask too (replica periods it passes)
+            extra = (self._replicas(realization, trace, masks, name),) if current is None and \
+                element.type == "modulator" else ()
+            key = self._upstream.key(realization, name, self.record_frames, *extra)
+            kept = self._upstream.get(name, key)
+            if kept is None:
+                kept = self._compute_plane(realization, trace, masks, index, current, cells, state)
+                self._upstream.keep(name, key, kept)
+            state.update(kept.state)
+            if kept.loss is not None:
+                losses.append(kept.loss)
+            planes[name] = kept.result
+            notes.extend(f"{name}: {note}" for note in kept.result.notes)
+            current, cells = kept.result.passed, kept.cells
+
+    def _compute_plane(self, realization, trace, masks, index, current, cells, state) -> KeptPlane:
+        """The field at mask plane ``masks[index]``, from the field ``current`` that left the one before."""
+        name = masks[index]
+        element = realization.element(name)
+        changed = {}
+        if current is None:
+            arriving, cells = self._first_field(realization, trace, name, masks, changed)
+            method, stage_notes = "start", tuple(start_notes(realization, trace, name, arriving, cells))
+            leaving_power = None
+        else:
+            stage = stage_between(realization, trace, masks[index - 1], name, self.plugin_matrices)
+            try:
+                result = propagate(current, stage.matrix_x, stage.matrix_y, plane=name, cells=cells,
+                                   workers=self.workers)
+            except SamplingError as error:
+                raise SamplingError(f"{error} (fix: a larger [simulation] grid, or check the layout "
+                                    f"around '{name}')") from None
+            arriving = result.field
+            leaving_power = (state["incident_power"] if cells is not None else current.power) * stage.amplitude**2
+            if stage.amplitude != 1.0:
+                arriving = arriving.replace(values=arriving.values * np.float32(stage.amplitude))
+            method, stage_notes, cells = result.method, result.notes, None
+        passed, loss = arriving, None
+        if element.type not in OBSERVATION_TYPES and element.type != "modulator":
+            mask = self._mask(element, arriving)
+            passed = arriving.replace(values=arriving.values * mask)
+            # Blocked here: all that left the previous plane and does not pass this mask,
+            # replica orders outside the window included (they land on the mask's plate).
+            leaving = leaving_power if leaving_power is not None else arriving.power
+            loss = (name, max(leaving - passed.power, 0.0) / self.source_power)
+        frame = None
+        if element.type == "camera" and self.record_frames:
+            frame = camera_frame(arriving, _camera_device(element))
+        nominal = self.nominal_trace.plane(name)
+        result = PlaneResult(name, arriving, passed, None, nominal.offset_in, nominal.angle_in, frame,
+                             method, tuple(stage_notes))
+        return KeptPlane(result, cells, loss, tuple(changed.items()))
 
     def _mask(self, element, arriving: Field) -> np.ndarray:
         """An element's transmission on the field's grid: a plugin type's own mask, or its aperture."""
@@ -252,10 +273,13 @@ class WaveSimulator:
             design = arriving_beam(self.nominal_trace, name, self.layout.wavelength, self.layout.source.m2)
             design_beam = DesignBeam(design.w, (design.position[0] - nominal_element.x,
                                                 design.position[1] - nominal_element.y))
+            if name not in self._holograms:  # computed once per study, sliced for every window
+                self._holograms[name] = panel_hologram(nominal_element, self.layout, self.patterns, self._phase_map,
+                                                       design_beam)
             window = modulator_window(
                 nominal_element, element, self.layout, arriving, realization.wavelength, power,
                 size, self.dtype, replicas, self.patterns, self._phase_map, ideal=ideal, design_beam=design_beam,
-                phase_cache=self._phases,
+                hologram=self._holograms[name],
             )
             state["incident_power"] = window.incident_power
             state["charge"] = intended_charge(element)

@@ -191,7 +191,8 @@ def cell_weights(ax: AxisPlan, wavelength: float, pitch: float, fill: float, dty
     return aperture, background
 
 
-def fourier_axis(work, ax: AxisPlan, wavelength: float, workers: int, notes: list) -> np.ndarray:
+def fourier_axis(work, ax: AxisPlan, wavelength: float, workers: int, notes: list, owned: bool = True) -> np.ndarray:
+    """One axis of the Fourier branch; ``owned``: ``work`` may be overwritten (else it is left as it is)."""
     factor_in, factor_out, alpha, fft_path, _ = fourier_parts(ax, wavelength)
     span = wavelength * abs(ax.b) / ax.pitch_in
     if not fft_path:
@@ -201,19 +202,24 @@ def fourier_axis(work, ax: AxisPlan, wavelength: float, workers: int, notes: lis
                 f"{ax.name}: output window {ax.n_out * ax.pitch_out:.4g} m is wider than the "
                 f"alias-free span λ|B|/p = {span:.4g} m: replicas of the input sampling appear"
             )
-    work *= along_axis(factor_in.astype(work.dtype), ax.axis)
+    factor = along_axis(factor_in.astype(work.dtype), ax.axis)
+    if owned:
+        work *= factor
+    else:
+        work = work * factor  # the copy the transform may overwrite, made by the first product
     out = scaled_dft(work, ax.axis, alpha, ax.n_out, fft_path, workers)
     out *= along_axis(factor_out.astype(out.dtype), ax.axis)
     return out
 
 
-def split_axis(work, ax: AxisPlan, wavelength: float, workers: int, notes: list) -> np.ndarray:
+def split_axis(work, ax: AxisPlan, wavelength: float, workers: int, notes: list, owned: bool = True) -> np.ndarray:
+    """One axis of the split branch; ``owned``: ``work`` may be overwritten (else it is left as it is)."""
     n, p = ax.n_in, ax.pitch_in
     distance = ax.b / ax.a
     if ax.natural and distance == 0.0:
-        out = work
+        out = work if owned else work.copy()
     else:
-        spectrum = scipy.fft.fft(work, axis=ax.axis, overwrite_x=True, workers=workers)
+        spectrum = scipy.fft.fft(work, axis=ax.axis, overwrite_x=owned, workers=workers)
         if distance != 0.0:
             frequency = scipy.fft.fftfreq(n, p)
             spectrum *= along_axis(np.exp(-1j * np.pi * wavelength * distance * frequency**2).astype(work.dtype), ax.axis)

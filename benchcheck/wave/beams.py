@@ -7,7 +7,7 @@ import numpy as np
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
 
-__all__ = ["gaussian_field", "beam_profile_1d"]
+__all__ = ["gaussian_field", "gaussian_profiles", "beam_profile_1d"]
 
 
 def beam_profile_1d(
@@ -91,11 +91,28 @@ def gaussian_field(
     -------
     Field
     """
+    profile_y, profile_x = gaussian_profiles(grid, wavelength, q_x, q_y, offset, angle, power, dtype)
+    # separable beam: one outer product of 1-D profiles, no N x N complex exponential
+    return Field(np.multiply.outer(profile_y, profile_x), grid, wavelength, plane)
+
+
+def gaussian_profiles(
+    grid: Grid,
+    wavelength: float,
+    q_x: complex,
+    q_y: complex,
+    offset: tuple[float, float] = (0.0, 0.0),
+    angle: tuple[float, float] = (0.0, 0.0),
+    power: float = 1.0,
+    dtype: type = np.complex64,
+) -> tuple[np.ndarray, np.ndarray]:
+    """(profile along y, profile along x) whose outer product is :func:`gaussian_field`'s values.
+
+    Same arguments as :func:`gaussian_field`; the power's amplitude rides on the x profile.
+    """
     w_x = _radius_from_q(q_x, wavelength)
     w_y = _radius_from_q(q_y, wavelength)
     amplitude = np.sqrt(2.0 * power / (np.pi * w_x * w_y))
     profile_x = beam_profile_1d(grid.x, wavelength, q_x, offset[0], angle[0]) * amplitude
     profile_y = beam_profile_1d(grid.y, wavelength, q_y, offset[1], angle[1])
-    # separable beam: one outer product of 1-D profiles, no N x N complex exponential
-    values = np.multiply.outer(profile_y.astype(dtype), profile_x.astype(dtype))
-    return Field(values, grid, wavelength, plane)
+    return profile_y.astype(dtype), profile_x.astype(dtype)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
@@ -22,7 +23,8 @@ class Field:
     Attributes
     ----------
     values : numpy.ndarray
-        Complex array of shape ``grid.shape`` indexed [y, x]; complex64 by default.
+        Complex array of shape ``grid.shape`` indexed [y, x]; complex64 by default. Not to
+        be changed in place once the field is made.
     grid : Grid
         Where the samples are.
     wavelength : float
@@ -47,10 +49,11 @@ class Field:
             np.float64 if self.values.dtype == np.complex128 else np.float32
         )
 
-    @property
+    @cached_property
     def power(self) -> float:
         """Total power in the window: Σ|E|² · sample area (blockwise np.vdot, double-precision
-        total: one pass, no temporary; :mod:`benchcheck.wave.sums`)."""
+        total: one pass, no temporary; :mod:`benchcheck.wave.sums`). Worked out once: a
+        field's values are never changed in place (make a new field with :meth:`replace`)."""
         from benchcheck.wave.sums import power_sum
 
         return power_sum(self.values) * self.grid.sample_area

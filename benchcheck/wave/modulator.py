@@ -21,6 +21,8 @@ __all__ = [
     "quantise_phase",
     "displayed_phase",
     "displayed_modulation",
+    "drive_levels",
+    "level_modulation",
     "pixel_centers",
 ]
 
@@ -171,13 +173,28 @@ def displayed_modulation(
         values = np.asarray(phase, dtype=float)
         if values.shape != device.shape:
             raise LayoutError(f"hologram shape {values.shape} does not match the panel {device.shape} (rows, columns)")
-        levels = int(device.phase_levels)
-        scaled = np.mod(values, TWO_PI) * (levels / TWO_PI)
-        index = np.rint(scaled, out=scaled).astype(np.intp)
-        index[index >= levels] = 0  # a wrapped phase in [0, 2π) rounds to level `levels` only at the top
-        table = np.exp(1j * (np.arange(levels) * (TWO_PI / levels)) * (device.design_wavelength / wavelength))
-        return table.astype(dtype)[index]
+        return level_modulation(drive_levels(values, device.phase_levels), device, wavelength, dtype)
     return np.exp(1j * displayed_phase(device, phase, wavelength, oversample)).astype(dtype, copy=False)
+
+
+def drive_levels(phase: np.ndarray, levels: int) -> np.ndarray:
+    """The drive level k (0..levels−1) of each pixel: phase rounded to 2πk/levels, wrapped.
+
+    The same rounding as :func:`quantise_phase`, kept as small integers (uint8 up to 256
+    levels) so that a new wavelength costs one table look-up per pixel.
+    """
+    levels = int(levels)
+    scaled = np.mod(np.asarray(phase, dtype=float), TWO_PI) * (levels / TWO_PI)
+    rounded = np.rint(scaled, out=scaled)
+    rounded[rounded >= levels] = 0.0  # a wrapped phase in [0, 2π) rounds to level `levels` only at the top
+    return rounded.astype(np.uint8 if levels <= 256 else np.uint32)
+
+
+def level_modulation(index: np.ndarray, device: ModulatorDevice, wavelength: float, dtype=np.complex128) -> np.ndarray:
+    """exp(iψ) per pixel from drive levels: ψ = 2πk/levels · design_wavelength / wavelength."""
+    levels = int(device.phase_levels)
+    table = np.exp(1j * (np.arange(levels) * (TWO_PI / levels)) * (device.design_wavelength / wavelength))
+    return np.take(table.astype(dtype), index)
 
 
 def pixel_centers(device: ModulatorDevice) -> tuple[np.ndarray, np.ndarray]:

@@ -29,12 +29,41 @@ from benchcheck.wave.grid import Grid
 
 __all__ = [
     "PixelCells",
+    "SeparableBackground",
+    "background_values",
     "aperture_weight",
     "central_period_mask",
     "upsampling_factor",
     "upsample_grid",
     "upsample_cells",
 ]
+
+
+@dataclass(frozen=True)
+class SeparableBackground:
+    """An incident field that is a product of 1-D profiles: b[y, x] = profile_y[y]·profile_x[x].
+
+    A Gaussian beam on a modulator is one. Its flat dead-space term is then transformed per
+    axis, two 1-D transforms instead of one N x N transform.
+    """
+
+    profile_y: np.ndarray
+    profile_x: np.ndarray
+
+    @property
+    def shape(self) -> tuple[int, int]:
+        return (self.profile_y.size, self.profile_x.size)
+
+    def values(self, dtype) -> np.ndarray:
+        """The background as an N x N array."""
+        return np.multiply.outer(self.profile_y.astype(dtype, copy=False), self.profile_x.astype(dtype, copy=False))
+
+
+def background_values(cells: "PixelCells", dtype) -> np.ndarray:
+    """The cells' background as an N x N array of ``dtype`` (a new array)."""
+    if isinstance(cells.background, SeparableBackground):
+        return cells.background.values(dtype)
+    return np.array(cells.background, dtype=dtype)
 
 
 @dataclass(frozen=True)
@@ -47,7 +76,7 @@ class PixelCells:
         Pixel pitch (px, py) in m; must equal the field grid's pitch.
     fill_factor : tuple of float
         Aperture width over pitch (gx, gy), each in (0, 1].
-    background : numpy.ndarray or None
+    background : numpy.ndarray, SeparableBackground or None
         Incident field per pixel (same shape as the field), needed for ``"flat"`` dead
         space.
     dead_space : {"flat", "opaque"}
@@ -59,7 +88,7 @@ class PixelCells:
 
     pitch: tuple[float, float]
     fill_factor: tuple[float, float] = (1.0, 1.0)
-    background: np.ndarray | None = None
+    background: np.ndarray | SeparableBackground | None = None
     dead_space: Literal["flat", "opaque"] = "flat"
     replicas: int = 1
 
@@ -171,7 +200,7 @@ def upsample_cells(field: Field, cells: PixelCells) -> tuple[Field, tuple[int, i
     values = np.repeat(np.repeat(field.values, factors[1], axis=0), factors[0], axis=1)
     values *= weights.astype(values.real.dtype)
     if cells.dead_space == "flat":
-        background = np.repeat(np.repeat(cells.background.astype(dtype), factors[1], axis=0), factors[0], axis=1)
+        background = np.repeat(np.repeat(background_values(cells, dtype), factors[1], axis=0), factors[0], axis=1)
         background *= (1.0 - weights).astype(values.real.dtype)
         values += background
     grid = upsample_grid(field.grid, factors)

@@ -59,6 +59,7 @@ from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.pixel_cells import (
     PixelCells,
+    SeparableBackground,
     upsample_cells,
     upsample_grid,
     upsampling_factor,
@@ -189,13 +190,17 @@ def _propagate_plain(field: Field, matrices, output_grid, plane: str, workers: i
         found = check_window(field, field.plane or plane)
         _raise_refusals(found, plane)
         notes.extend(note.text() for note in found)
-    work = field.values.astype(dtype, copy=True)
+    work = field.values.astype(dtype, copy=False)
+    owned = work is not field.values  # the input field is never changed: the first axis copies it
     try:
         for ax in axes:
             if ax.branch == "fourier":
-                work = fourier_axis(work, ax, field.wavelength, workers, notes)
+                work = fourier_axis(work, ax, field.wavelength, workers, notes, owned)
             elif ax.branch == "split":
-                work = split_axis(work, ax, field.wavelength, workers, notes)
+                work = split_axis(work, ax, field.wavelength, workers, notes, owned)
+            else:
+                continue
+            owned = True
     except SamplingError as error:
         raise SamplingError(f"stage to plane '{plane}': {error}") from None
     # an asked-for grid within 1e-9 of the natural pitch is returned exactly as asked
@@ -212,7 +217,8 @@ def _cells_fourier(field: Field, axes, cells: PixelCells, dtype, workers: int, n
 
     Both axes' input chirps are applied as one outer product, and each axis's output factor
     is folded into its aperture weight (and central-period mask), so the field is read and
-    written as few times as the two transforms allow.
+    written as few times as the two transforms allow. A separable background (a Gaussian
+    beam) is transformed per axis: its term costs two 1-D transforms.
     """
     wavelength = field.wavelength
     parts = [fourier_parts(ax, wavelength) for ax in axes]
@@ -224,8 +230,15 @@ def _cells_fourier(field: Field, axes, cells: PixelCells, dtype, workers: int, n
     by_axis = {ax.axis: part for ax, part in zip(axes, parts)}
     factor_in = np.multiply.outer(by_axis[0][0].astype(dtype), by_axis[1][0].astype(dtype))  # [y, x]
     pixel_term = np.multiply(field.values, factor_in, dtype=dtype)
+    flat = cells.dead_space == "flat"
+    separable = flat and isinstance(cells.background, SeparableBackground)
     background = None
-    if cells.dead_space == "flat":
+    if separable:
+        # per axis: profile × input chirp, [y] and [x]
+        profiles = {0: cells.background.profile_y.astype(dtype) * by_axis[0][0].astype(dtype),
+                    1: cells.background.profile_x.astype(dtype) * by_axis[1][0].astype(dtype)}
+        pixel_term -= np.multiply.outer(profiles[0], profiles[1])
+    elif flat:
         background = np.multiply(cells.background, factor_in, dtype=dtype)
         pixel_term -= background
     del factor_in
@@ -233,12 +246,20 @@ def _cells_fourier(field: Field, axes, cells: PixelCells, dtype, workers: int, n
         pixel_term = scaled_dft(pixel_term, ax.axis, alpha, ax.n_out, fft_path, workers)
         if background is not None:
             background = scaled_dft(background, ax.axis, alpha, ax.n_out, fft_path, workers)
+        elif separable:
+            profiles[ax.axis] = scaled_dft(along_axis(profiles[ax.axis], ax.axis), ax.axis, alpha, ax.n_out,
+                                           fft_path, workers).ravel()
     dtype_name = np.dtype(dtype).name
     for ax, pitch, fill in zip(axes, cells.pitch, cells.fill_factor):
         aperture, central = cell_weights(ax, wavelength, pitch, fill, dtype_name)
         pixel_term *= along_axis(aperture, ax.axis)
+        weight = by_axis[ax.axis][1].astype(dtype) if central is None else central
         if background is not None:
-            background *= along_axis(by_axis[ax.axis][1].astype(dtype) if central is None else central, ax.axis)
+            background *= along_axis(weight, ax.axis)
+        elif separable:
+            profiles[ax.axis] = profiles[ax.axis] * weight
     if background is not None:
         pixel_term += background
+    elif separable:
+        pixel_term += np.multiply.outer(profiles[0], profiles[1])
     return pixel_term
