@@ -18,7 +18,7 @@ import numpy as np
 from benchcheck.layout.model import Element
 from benchcheck.wave.grid import Grid
 
-__all__ = ["aperture_mask", "round_mask", "rectangle_mask"]
+__all__ = ["aperture_mask", "aperture_support", "round_mask", "rectangle_mask"]
 
 
 def _open_share(distance_inside: np.ndarray, pitch: float) -> np.ndarray:
@@ -35,16 +35,23 @@ def round_mask(grid: Grid, radius: float, center: tuple[float, float]) -> np.nda
     gives them.
     """
     x, y = grid.x, grid.y
-    reach = radius + 2.0 * max(grid.pitch)
-    columns = np.flatnonzero(np.abs(x - center[0]) <= reach)
-    rows = np.flatnonzero(np.abs(y - center[1]) <= reach)
     mask = np.zeros(grid.shape, np.float32)
-    if columns.size and rows.size:
-        box = (slice(rows[0], rows[-1] + 1), slice(columns[0], columns[-1] + 1))
+    box = _box(grid, center, (radius, radius))
+    if box is not None:
         distance = np.hypot(x[box[1]][np.newaxis, :] - center[0], y[box[0]][:, np.newaxis] - center[1])
         mask[box] = np.sqrt(_open_share(radius - distance, min(grid.pitch)))
     mask.flags.writeable = False  # cached: shared between trials with the same iris and grid
     return mask
+
+
+def _box(grid: Grid, center: tuple[float, float], half_widths: tuple[float, float]):
+    """(rows, columns) slices of the samples within two pitches of a centred box, or None if none are."""
+    reach = 2.0 * max(grid.pitch)
+    columns = np.flatnonzero(np.abs(grid.x - center[0]) <= half_widths[0] + reach)
+    rows = np.flatnonzero(np.abs(grid.y - center[1]) <= half_widths[1] + reach)
+    if not (columns.size and rows.size):
+        return None
+    return slice(int(rows[0]), int(rows[-1]) + 1), slice(int(columns[0]), int(columns[-1]) + 1)
 
 
 def rectangle_mask(grid: Grid, half_widths: tuple[float, float], center: tuple[float, float]) -> np.ndarray:
@@ -52,6 +59,28 @@ def rectangle_mask(grid: Grid, half_widths: tuple[float, float], center: tuple[f
     along_x = np.sqrt(_open_share(half_widths[0] - np.abs(grid.x - center[0]), grid.pitch[0]))
     along_y = np.sqrt(_open_share(half_widths[1] - np.abs(grid.y - center[1]), grid.pitch[1]))
     return np.multiply.outer(along_y, along_x)
+
+
+def aperture_support(element: Element, grid: Grid) -> tuple[slice, slice] | None:
+    """(rows, columns) of the box outside which an aperture element's mask is exactly 0.
+
+    None when the box is most of the window (nothing to gain) or empty.
+    """
+    if element.type == "aperture":
+        center_x, center_y = element.value("center", (0.0, 0.0))
+        center = (center_x + element.x, center_y + element.y)
+        if element.value("size") is not None:
+            half_widths = tuple(width / 2 for width in element.value("size"))
+        else:
+            half_widths = (element.value("diameter") / 2,) * 2
+    else:
+        center, half_widths = (element.x, element.y), (element.value("clear_aperture") / 2,) * 2
+    box = _box(grid, center, half_widths)
+    if box is None:
+        return None
+    rows, columns = box
+    covered = (rows.stop - rows.start) * (columns.stop - columns.start) / (grid.ny * grid.nx)
+    return box if covered < 0.5 else None
 
 
 def aperture_mask(element: Element, grid: Grid) -> np.ndarray:

@@ -292,6 +292,7 @@ def modulator_window(
     # separable: the power is the product of the profiles' sums
     incident_power = power_sum(profile_x) * power_sum(profile_y) * grid.sample_area
     values = np.multiply.outer(profile_y, profile_x)
+    less_one = None
     if ideal:
         design_wavelength = nominal.value("design_wavelength") or layout.wavelength
         patterns = compensated_patterns(patterns or builtin_patterns(), nominal.value("hologram") or {}, design_beam)
@@ -306,12 +307,13 @@ def modulator_window(
             phase_levels=real.value("phase_levels"), design_wavelength=design_wavelength * depth,
             crosstalk=real.value("crosstalk", 0.0), dead_space=real.value("dead_space", "flat"),
         )
-        values *= hologram.modulation(ix, iy, device, wavelength, dtype)
+        modulation, less_one = hologram.modulation(ix, iy, device, wavelength, dtype)
+        values *= modulation
     # The layout's fill factor is the datasheet's area share; the square aperture's width
     # share per axis is its square root.
     width_share = math.sqrt(min(real.value("fill_factor", 1.0), 1.0))
     dead_space = "flat" if ideal else real.value("dead_space", "flat")
     cells = PixelCells(pitch=pitch, fill_factor=(1.0, 1.0) if ideal else (width_share, width_share),
                        background=SeparableBackground(profile_y, profile_x), dead_space=dead_space,
-                       replicas=replicas)
+                       replicas=replicas, modulation_less_one=less_one)
     return ModulatorWindow(Field(values, grid, wavelength, real.name), cells, incident_power)

@@ -76,30 +76,36 @@ class PanelHologram:
         self._modulations.clear()
 
     def modulation(self, ix: np.ndarray, iy: np.ndarray, device: ModulatorDevice, wavelength: float,
-                   dtype) -> np.ndarray:
-        """exp(iψ) the real device shows on the window's pixels, shape (len(iy), len(ix)).
+                   dtype) -> tuple[np.ndarray, np.ndarray]:
+        """exp(iψ) the real device shows on the window's pixels, and exp(iψ) − 1 (what the
+        pixel term of the wave stage multiplies), each of shape (len(iy), len(ix)).
 
         ``ix``, ``iy``: the window's panel pixel indices (1-D, consecutive, from the panel
-        centre). Window pixels off the panel get 1 (the caller zeroes the light there).
+        centre). Window pixels off the panel get 1 and 0 (the caller zeroes the light there).
+        The arrays may be read-only views of the kept region.
         """
         on_x, on_y = self._on_panel(ix, 0), self._on_panel(iy, 1)
         if not on_x.any() or not on_y.any():
-            return np.ones((iy.size, ix.size), dtype)
+            return np.ones((iy.size, ix.size), dtype), np.zeros((iy.size, ix.size), dtype)
         first_x, last_x = int(ix[on_x][0]), int(ix[on_x][-1])
         first_y, last_y = int(iy[on_y][0]), int(iy[on_y][-1])
         region = self._region
         if region is None or not (region.holds(first_x, last_x, 0) and region.holds(first_y, last_y, 1)):
             self._compute(ix, iy)
             region = self._region
-        full = self._region_modulation(device, wavelength, dtype)
         columns = slice(int(ix[0]) - region.ix0, int(ix[-1]) + 1 - region.ix0)
         rows = slice(int(iy[0]) - region.iy0, int(iy[-1]) + 1 - region.iy0)
-        if columns.start >= 0 and rows.start >= 0 and columns.stop <= region.nx and rows.stop <= region.ny:
-            return full[rows, columns]
-        window = np.ones((iy.size, ix.size), dtype)
-        window[np.ix_(on_y, on_x)] = full[first_y - region.iy0:last_y + 1 - region.iy0,
-                                          first_x - region.ix0:last_x + 1 - region.ix0]
-        return window
+        inside = columns.start >= 0 and rows.start >= 0 and columns.stop <= region.nx and rows.stop <= region.ny
+        windows = []
+        for full, outside in zip(self._region_modulation(device, wavelength, dtype), (1.0, 0.0)):
+            if inside:
+                windows.append(full[rows, columns])
+                continue
+            window = np.full((iy.size, ix.size), outside, dtype)
+            window[np.ix_(on_y, on_x)] = full[first_y - region.iy0:last_y + 1 - region.iy0,
+                                              first_x - region.ix0:last_x + 1 - region.ix0]
+            windows.append(window)
+        return windows[0], windows[1]
 
     # -- inside ---------------------------------------------------------------------------------
 
@@ -123,7 +129,7 @@ class PanelHologram:
         self._levels.clear()
         self._modulations.clear()
 
-    def _region_modulation(self, device: ModulatorDevice, wavelength: float, dtype) -> np.ndarray:
+    def _region_modulation(self, device: ModulatorDevice, wavelength: float, dtype) -> tuple[np.ndarray, np.ndarray]:
         key = (wavelength, device.design_wavelength, device.phase_levels, device.crosstalk, np.dtype(dtype).name)
         if key in self._modulations:
             self._modulations.move_to_end(key)
@@ -141,9 +147,11 @@ class PanelHologram:
         )
         return self._keep(key, displayed_modulation(region_device, self._phase, wavelength, dtype=dtype))
 
-    def _keep(self, key: tuple, modulation: np.ndarray) -> np.ndarray:
-        modulation.flags.writeable = False  # shared by every window sliced from it
-        self._modulations[key] = modulation
+    def _keep(self, key: tuple, modulation: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        pair = (modulation, modulation - 1)
+        for array in pair:
+            array.flags.writeable = False  # shared by every window sliced from it
+        self._modulations[key] = pair
         while len(self._modulations) > MODULATIONS_KEPT:
             self._modulations.popitem(last=False)
-        return modulation
+        return pair

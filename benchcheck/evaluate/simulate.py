@@ -27,7 +27,7 @@ import numpy as np
 
 from benchcheck.bench.realization import Realization
 from benchcheck.errors import SamplingError
-from benchcheck.evaluate.masks import aperture_mask
+from benchcheck.evaluate.masks import aperture_mask, aperture_support
 from benchcheck.evaluate.modulator_plane import intended_charge, load_phase_map, modulator_window, panel_hologram
 from benchcheck.evaluate.upstream_planes import KeptPlane, UpstreamPlanes
 from benchcheck.evaluate.wave_path import (
@@ -235,8 +235,7 @@ class WaveSimulator:
             method, stage_notes, cells = result.method, result.notes, None
         passed, loss = arriving, None
         if element.type not in OBSERVATION_TYPES and element.type != "modulator":
-            mask = self._mask(element, arriving)
-            passed = arriving.replace(values=arriving.values * mask)
+            passed = self._masked(element, arriving)
             # Blocked here: all that left the previous plane and does not pass this mask,
             # replica orders outside the window included (they land on the mask's plate).
             leaving = leaving_power if leaving_power is not None else arriving.power
@@ -248,6 +247,17 @@ class WaveSimulator:
         result = PlaneResult(name, arriving, passed, None, nominal.offset_in, nominal.angle_in, frame,
                              method, tuple(stage_notes))
         return KeptPlane(result, cells, loss, tuple(changed.items()))
+
+    def _masked(self, element, arriving: Field) -> Field:
+        """The field past an element's mask; past a small aperture, zero outside its box (kept
+        as the field's support, so the next stage transforms only the box's lines)."""
+        mask = self._mask(element, arriving)
+        box = None if element.type in self.plugin_masks else aperture_support(element, arriving.grid)
+        if box is None:
+            return arriving.replace(values=arriving.values * mask)
+        values = np.zeros(arriving.values.shape, arriving.values.dtype)  # pages outside the box stay untouched
+        values[box] = arriving.values[box] * mask[box]
+        return Field(values, arriving.grid, arriving.wavelength, arriving.plane, support=box)
 
     def _mask(self, element, arriving: Field) -> np.ndarray:
         """An element's transmission on the field's grid: a plugin type's own mask, or its aperture."""

@@ -191,8 +191,10 @@ def cell_weights(ax: AxisPlan, wavelength: float, pitch: float, fill: float, dty
     return aperture, background
 
 
-def fourier_axis(work, ax: AxisPlan, wavelength: float, workers: int, notes: list, owned: bool = True) -> np.ndarray:
-    """One axis of the Fourier branch; ``owned``: ``work`` may be overwritten (else it is left as it is)."""
+def fourier_axis(work, ax: AxisPlan, wavelength: float, workers: int, notes: list, owned: bool = True,
+                 input_applied: bool = False) -> np.ndarray:
+    """One axis of the Fourier branch; ``owned``: ``work`` may be overwritten (else it is left
+    as it is); ``input_applied``: the caller has applied the input factor already."""
     factor_in, factor_out, alpha, fft_path, _ = fourier_parts(ax, wavelength)
     span = wavelength * abs(ax.b) / ax.pitch_in
     if not fft_path:
@@ -203,7 +205,9 @@ def fourier_axis(work, ax: AxisPlan, wavelength: float, workers: int, notes: lis
                 f"alias-free span λ|B|/p = {span:.4g} m: replicas of the input sampling appear"
             )
     factor = along_axis(factor_in.astype(work.dtype), ax.axis)
-    if owned:
+    if input_applied:
+        work = work if owned else work.copy()
+    elif owned:
         work *= factor
     else:
         work = work * factor  # the copy the transform may overwrite, made by the first product

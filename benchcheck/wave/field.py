@@ -31,12 +31,16 @@ class Field:
         Vacuum wavelength (m).
     plane : str
         Name of the plane the field belongs to.
+    support : tuple of slice, optional
+        (rows, columns) of a box outside which every sample is exactly zero (the field just
+        past a small iris); stages then transform only the box's lines along the first axis.
     """
 
     values: np.ndarray
     grid: Grid
     wavelength: float
     plane: str = ""
+    support: tuple[slice, slice] | None = None
 
     def __post_init__(self) -> None:
         if self.values.shape != self.grid.shape:
@@ -56,13 +60,14 @@ class Field:
         field's values are never changed in place (make a new field with :meth:`replace`)."""
         from benchcheck.wave.sums import power_sum
 
-        return power_sum(self.values) * self.grid.sample_area
+        return power_sum(self.values if self.support is None else self.values[self.support]) * self.grid.sample_area
 
     def replace(self, values: np.ndarray | None = None, grid: Grid | None = None, plane: str | None = None) -> "Field":
-        """A new field with some attributes changed."""
+        """A new field with some attributes changed (new values or grid drop the support box)."""
         return Field(
             self.values if values is None else values,
             self.grid if grid is None else grid,
             self.wavelength,
             self.plane if plane is None else plane,
+            self.support if values is None and grid is None else None,
         )

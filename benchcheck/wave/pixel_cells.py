@@ -84,6 +84,10 @@ class PixelCells:
         ``"opaque"``: it absorbs.
     replicas : int
         Replica periods of the spectrum kept on each side on the Fourier branch.
+    modulation_less_one : numpy.ndarray or None
+        exp(iψ) − 1 per pixel, when the field is the (separable) background times the
+        modulation exp(iψ): the Fourier branch's pixel term is then made from the background's
+        profiles and this in two passes instead of six.
     """
 
     pitch: tuple[float, float]
@@ -91,6 +95,7 @@ class PixelCells:
     background: np.ndarray | SeparableBackground | None = None
     dead_space: Literal["flat", "opaque"] = "flat"
     replicas: int = 1
+    modulation_less_one: np.ndarray | None = None
 
     def __post_init__(self) -> None:
         pitch = (float(self.pitch[0]), float(self.pitch[1]))

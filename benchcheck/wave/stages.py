@@ -193,7 +193,12 @@ def _propagate_plain(field: Field, matrices, output_grid, plane: str, workers: i
     work = field.values.astype(dtype, copy=False)
     owned = work is not field.values  # the input field is never changed: the first axis copies it
     try:
-        for ax in axes:
+        if field.support is not None and all(ax.branch == "fourier" for ax in axes):
+            work = _pruned_fourier(field, axes, dtype, workers, notes)  # copies the box in ``dtype``
+            axes_left = []
+        else:
+            axes_left = axes
+        for ax in axes_left:
             if ax.branch == "fourier":
                 work = fourier_axis(work, ax, field.wavelength, workers, notes, owned)
             elif ax.branch == "split":
@@ -212,6 +217,23 @@ def _propagate_plain(field: Field, matrices, output_grid, plane: str, workers: i
     return StageResult(out, stage_method(axes), tuple(notes))
 
 
+def _pruned_fourier(field: Field, axes, dtype, workers: int, notes: list) -> np.ndarray:
+    """Fourier branch on both axes for a field that is zero outside its support box.
+
+    Along x only the box's rows are transformed (the other rows are zero and stay zero), and
+    the y input factor is applied to those rows before they are placed in the full array.
+    """
+    rows, columns = field.support
+    x_axis, y_axis = axes  # plan_axes gives x, then y
+    lines = np.zeros((rows.stop - rows.start, field.grid.nx), dtype)
+    lines[:, columns] = field.values[rows, columns]
+    lines = fourier_axis(lines, x_axis, field.wavelength, workers, notes)
+    lines *= fourier_parts(y_axis, field.wavelength)[0][rows].astype(dtype)[:, np.newaxis]
+    full = np.zeros((field.grid.ny, x_axis.n_out), dtype)
+    full[rows] = lines
+    return fourier_axis(full, y_axis, field.wavelength, workers, notes, input_applied=True)
+
+
 def _cells_fourier(field: Field, axes, cells: PixelCells, dtype, workers: int, notes: list) -> np.ndarray:
     """Fourier branch for pixel cells: array factor × aperture + flat dead-space term.
 
@@ -228,8 +250,6 @@ def _cells_fourier(field: Field, axes, cells: PixelCells, dtype, workers: int, n
         if swing > 0.5:  # 1 − sinc(Δφ/2π) ≈ Δφ²/24: 1 % amplitude error at 0.5 rad
             notes.append(f"{ax.name}: input chirp changes by {swing:.3g} rad across a pixel; per-pixel chirp approximate")
     by_axis = {ax.axis: part for ax, part in zip(axes, parts)}
-    factor_in = np.multiply.outer(by_axis[0][0].astype(dtype), by_axis[1][0].astype(dtype))  # [y, x]
-    pixel_term = np.multiply(field.values, factor_in, dtype=dtype)
     flat = cells.dead_space == "flat"
     separable = flat and isinstance(cells.background, SeparableBackground)
     background = None
@@ -237,11 +257,19 @@ def _cells_fourier(field: Field, axes, cells: PixelCells, dtype, workers: int, n
         # per axis: profile × input chirp, [y] and [x]
         profiles = {0: cells.background.profile_y.astype(dtype) * by_axis[0][0].astype(dtype),
                     1: cells.background.profile_x.astype(dtype) * by_axis[1][0].astype(dtype)}
-        pixel_term -= np.multiply.outer(profiles[0], profiles[1])
-    elif flat:
-        background = np.multiply(cells.background, factor_in, dtype=dtype)
-        pixel_term -= background
-    del factor_in
+        pixel_term = np.multiply.outer(profiles[0], profiles[1])
+        if cells.modulation_less_one is not None:
+            pixel_term *= cells.modulation_less_one  # field − background = background·(exp(iψ) − 1)
+        else:
+            pixel_term = np.multiply(field.values, np.multiply.outer(by_axis[0][0].astype(dtype),
+                                                                     by_axis[1][0].astype(dtype)), dtype=dtype) - pixel_term
+    else:
+        factor_in = np.multiply.outer(by_axis[0][0].astype(dtype), by_axis[1][0].astype(dtype))  # [y, x]
+        pixel_term = np.multiply(field.values, factor_in, dtype=dtype)
+        if flat:
+            background = np.multiply(cells.background, factor_in, dtype=dtype)
+            pixel_term -= background
+        del factor_in
     for ax, (_, _, alpha, fft_path, _) in zip(axes, parts):
         pixel_term = scaled_dft(pixel_term, ax.axis, alpha, ax.n_out, fft_path, workers)
         if background is not None:

@@ -156,3 +156,24 @@ def test_oam_about_an_offset_axis():
     axis = (0.7 * WAIST, -0.4 * WAIST)
     values = laguerre_gauss(GRID, 0, 2, center=axis)
     assert oam_purity(context(values, charge=2, axis=axis)) == pytest.approx(1.0, abs=1e-9)
+
+
+def test_an_oversampled_field_is_resampled_without_changing_the_weights(monkeypatch):
+    # 64 samples per waist over ±4 waists: the spectrum is far inside the Nyquist band, so the
+    # spiral spectrum runs on a coarser grid made by cropping the spectrum (Whittaker-Shannon).
+    # It must still match P1 (1e-4, as above) and the full-grid computation within 3e-6: the
+    # crop leaves out at most 1e-6 of the power (orthogonal to what is kept, so it moves a
+    # weight by at most that), and the two ring samplings differ by ~1.6e-6 (measured above).
+    from benchcheck_plugins import spiral_spectrum as module
+
+    fine = Grid.square(512, WAIST / 64)
+    values = laguerre_gauss(fine, 0, 1, center=(0.2 * WAIST, 0.0))
+    field = Field(values, fine, WAVELENGTH, "work")
+    coarse_values, coarse_grid, highest = module._band_limited(field)
+    assert coarse_grid.nx < fine.nx and coarse_grid.pitch[0] > fine.pitch[0]
+    fine_context = MetricContext(plane="work", wavelength=WAVELENGTH, field=field, axis=(0.0, 0.0), intended_charge=1)
+    resampled = oam_purity(fine_context)
+    monkeypatch.setattr(module, "_band_limited", lambda f: (np.asarray(f.values, np.complex128), f.grid, 1 / min(f.grid.pitch)))
+    full = oam_purity(fine_context)
+    assert resampled == pytest.approx(p1_displaced(0.2), abs=1e-4)
+    assert resampled == pytest.approx(full, abs=3e-6)
