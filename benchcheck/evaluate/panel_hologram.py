@@ -69,6 +69,11 @@ class PanelHologram:
     _levels: dict = field(default_factory=dict, init=False, repr=False)
     _modulations: OrderedDict = field(default_factory=OrderedDict, init=False, repr=False)
 
+    @property
+    def signature(self) -> tuple:
+        """What the drive phase depends on: the pattern function, panel, pitch and registration."""
+        return (id(self.compute_phase), self.pixels, self.pitch, self.registration)
+
     def clear(self) -> None:
         """Forget the phase and modulations (the next window computes them again)."""
         self._region, self._phase = None, None

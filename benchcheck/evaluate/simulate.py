@@ -191,15 +191,18 @@ class WaveSimulator:
         masks = mask_planes(realization, trace, observation, self.plugin_masks)
         current = None
         cells = None
+        previous_key = None
         for index, name in enumerate(masks):
             if name in planes:
-                current, cells = planes[name].passed, None
+                current, cells, previous_key = planes[name].passed, None, self._upstream.key_of(name)
                 continue
             element = realization.element(name)
-            # the modulator's window depends on the next mask too (replica periods it passes)
-            extra = (self._replicas(realization, trace, masks, name),) if current is None and \
-                element.type == "modulator" else ()
-            key = self._upstream.key(realization, name, self.record_frames, *extra)
+            # the modulator's window depends on the next mask too (replica periods it passes),
+            # and on the hologram kept for it
+            extra = (self._replicas(realization, trace, masks, name), self._hologram(name).signature) \
+                if current is None and element.type == "modulator" else ()
+            # a plane's field follows from the one before it: its key carries that plane's key
+            key = self._upstream.key(realization, name, previous_key, self.record_frames, *extra)
             kept = self._upstream.get(name, key)
             if kept is None:
                 kept = self._compute_plane(realization, trace, masks, index, current, cells, state)
@@ -209,7 +212,7 @@ class WaveSimulator:
                 losses.append(kept.loss)
             planes[name] = kept.result
             notes.extend(f"{name}: {note}" for note in kept.result.notes)
-            current, cells = kept.result.passed, kept.cells
+            current, cells, previous_key = kept.result.passed, kept.cells, key
 
     def _compute_plane(self, realization, trace, masks, index, current, cells, state) -> KeptPlane:
         """The field at mask plane ``masks[index]``, from the field ``current`` that left the one before."""
@@ -280,16 +283,10 @@ class WaveSimulator:
             replicas = self._replicas(realization, trace, masks, name)
             check_wave_grid(size, self.dtype, name, expansion=2 * replicas + 1)  # before allocating
             nominal_element = realization.bench.element(name)
-            design = arriving_beam(self.nominal_trace, name, self.layout.wavelength, self.layout.source.m2)
-            design_beam = DesignBeam(design.w, (design.position[0] - nominal_element.x,
-                                                design.position[1] - nominal_element.y))
-            if name not in self._holograms:  # computed once per study, sliced for every window
-                self._holograms[name] = panel_hologram(nominal_element, self.layout, self.patterns, self._phase_map,
-                                                       design_beam)
             window = modulator_window(
                 nominal_element, element, self.layout, arriving, realization.wavelength, power,
-                size, self.dtype, replicas, self.patterns, self._phase_map, ideal=ideal, design_beam=design_beam,
-                hologram=self._holograms[name],
+                size, self.dtype, replicas, self.patterns, self._phase_map, ideal=ideal,
+                design_beam=self._design_beam(name), hologram=self._hologram(name),
             )
             state["incident_power"] = window.incident_power
             state["charge"] = intended_charge(element)
@@ -303,6 +300,18 @@ class WaveSimulator:
         grid = Grid((size, size), (pitch, pitch), center)
         return gaussian_field(grid, realization.wavelength, arriving.q[0], arriving.q[1], arriving.position,
                               arriving.slope, power=power, dtype=self.dtype, plane=name), None
+
+    def _design_beam(self, name: str) -> DesignBeam:
+        nominal_element = self.nominal.bench.element(name)
+        design = arriving_beam(self.nominal_trace, name, self.layout.wavelength, self.layout.source.m2)
+        return DesignBeam(design.w, (design.position[0] - nominal_element.x, design.position[1] - nominal_element.y))
+
+    def _hologram(self, name: str):
+        """The modulator's hologram, computed once per study and sliced for every window."""
+        if name not in self._holograms:
+            self._holograms[name] = panel_hologram(self.nominal.bench.element(name), self.layout, self.patterns,
+                                                   self._phase_map, self._design_beam(name))
+        return self._holograms[name]
 
     def _replicas(self, realization, trace, masks, name) -> int:
         """Replica periods of the pixel spectrum the next mask can pass (0 or 1)."""

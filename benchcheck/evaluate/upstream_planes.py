@@ -45,6 +45,11 @@ class UpstreamPlanes:
                              if value != 0.0 and split_dof(dof)[0] in upstream))
         return (id(realization.bench), moved) + extra
 
+    def key_of(self, plane: str) -> tuple | None:
+        """The key the kept ``plane`` was computed for (None when none is kept)."""
+        kept = self._kept.get(plane)
+        return kept[0] if kept is not None else None
+
     def get(self, plane: str, key: tuple) -> KeptPlane | None:
         kept = self._kept.get(plane)
         return kept[1] if kept is not None and kept[0] == key else None
