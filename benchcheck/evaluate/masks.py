@@ -26,7 +26,12 @@ def _open_share(distance_inside: np.ndarray, pitch: float) -> np.ndarray:
     return np.clip(0.5 + distance_inside / pitch, 0.0, 1.0)
 
 
-@functools.lru_cache(maxsize=32)
+#: Masks kept by (grid, radius, centre): nominal runs and targets reuse theirs; a study's trials
+#: land on grids of their own, so a few are enough (each is a field-sized float32 array).
+MASKS_KEPT = 4
+
+
+@functools.lru_cache(maxsize=MASKS_KEPT)
 def round_mask(grid: Grid, radius: float, center: tuple[float, float]) -> np.ndarray:
     """Amplitude transmission (0..1) of a disc of ``radius`` (m) centred at ``center`` (m).
 
@@ -34,14 +39,18 @@ def round_mask(grid: Grid, radius: float, center: tuple[float, float]) -> np.nda
     Fourier plane covers a few percent of the window); the rest are exactly 0, as the ramp
     gives them.
     """
-    x, y = grid.x, grid.y
     mask = np.zeros(grid.shape, np.float32)
     box = _box(grid, center, (radius, radius))
     if box is not None:
-        distance = np.hypot(x[box[1]][np.newaxis, :] - center[0], y[box[0]][:, np.newaxis] - center[1])
-        mask[box] = np.sqrt(_open_share(radius - distance, min(grid.pitch)))
+        mask[box] = _round_in(grid, radius, center, box)
     mask.flags.writeable = False  # cached: shared between trials with the same iris and grid
     return mask
+
+
+def _round_in(grid: Grid, radius: float, center: tuple[float, float], box) -> np.ndarray:
+    """The disc's transmission on the samples of ``box`` only."""
+    distance = np.hypot(grid.x[box[1]][np.newaxis, :] - center[0], grid.y[box[0]][:, np.newaxis] - center[1])
+    return np.sqrt(_open_share(radius - distance, min(grid.pitch))).astype(np.float32)
 
 
 def _box(grid: Grid, center: tuple[float, float], half_widths: tuple[float, float]):
@@ -83,17 +92,25 @@ def aperture_support(element: Element, grid: Grid) -> tuple[slice, slice] | None
     return box if covered < 0.5 else None
 
 
-def aperture_mask(element: Element, grid: Grid) -> np.ndarray:
-    """The mask of an aperture element, or of any element's round clear aperture (real, 0..1)."""
+def aperture_mask(element: Element, grid: Grid, box: tuple[slice, slice] | None = None) -> np.ndarray:
+    """The mask of an aperture element, or of any element's round clear aperture (real, 0..1).
+
+    With ``box`` (from :func:`aperture_support`), only the mask's values on that box.
+    """
     if element.type == "aperture":
         center_x, center_y = element.value("center", (0.0, 0.0))
         center = (center_x + element.x, center_y + element.y)
         if element.value("size") is not None:
             width, height = element.value("size")
-            return rectangle_mask(grid, (width / 2, height / 2), center)
-        mask = round_mask(grid, element.value("diameter") / 2, tuple(center))
+            mask = rectangle_mask(grid, (width / 2, height / 2), center)
+            return mask if box is None else mask[box]
+        mask = _round(grid, element.value("diameter") / 2, tuple(center), box)
         if element.value("stop") is not None:
-            blocked = round_mask(grid, element.value("stop") / 2, tuple(center)) ** 2
+            blocked = _round(grid, element.value("stop") / 2, tuple(center), box) ** 2
             mask = np.sqrt(np.clip(mask**2 - blocked, 0.0, 1.0))
         return mask
-    return round_mask(grid, element.value("clear_aperture") / 2, (element.x, element.y))
+    return _round(grid, element.value("clear_aperture") / 2, (element.x, element.y), box)
+
+
+def _round(grid: Grid, radius: float, center: tuple[float, float], box) -> np.ndarray:
+    return round_mask(grid, radius, center) if box is None else _round_in(grid, radius, center, box)

@@ -254,12 +254,11 @@ class WaveSimulator:
     def _masked(self, element, arriving: Field) -> Field:
         """The field past an element's mask; past a small aperture, zero outside its box (kept
         as the field's support, so the next stage transforms only the box's lines)."""
-        mask = self._mask(element, arriving)
         box = None if element.type in self.plugin_masks else aperture_support(element, arriving.grid)
         if box is None:
-            return arriving.replace(values=arriving.values * mask)
+            return arriving.replace(values=arriving.values * self._mask(element, arriving))
         values = np.zeros(arriving.values.shape, arriving.values.dtype)  # pages outside the box stay untouched
-        values[box] = arriving.values[box] * mask[box]
+        values[box] = arriving.values[box] * aperture_mask(element, arriving.grid, box)
         return Field(values, arriving.grid, arriving.wavelength, arriving.plane, support=box)
 
     def _mask(self, element, arriving: Field) -> np.ndarray:
