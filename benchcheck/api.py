@@ -147,7 +147,7 @@ def plan_mounts(
 
     if not isinstance(layout, Layout):
         layout = load_layout(layout, plugin_manager)
-    evaluator = make_evaluator(layout, plugin_manager)
+    evaluator = make_evaluator(layout, plugin_manager, study=True)
     if simulate is not None:
         evaluator.simulate = simulate
     return plan_mount_classes(evaluator, layout, trials=trials, seed=seed, yield_target=yield_target,

@@ -20,11 +20,14 @@ def metric_registry(plugin_manager=None) -> MetricRegistry:
     return MetricRegistry.from_plugin_manager(plugin_manager)
 
 
-def make_evaluator(layout: Layout, plugin_manager=None, registry: MetricRegistry | None = None) -> Evaluator:
+def make_evaluator(layout: Layout, plugin_manager=None, registry: MetricRegistry | None = None,
+                   study: bool = False) -> Evaluator:
     """An Evaluator that traces every trial and simulates the wave when a spec needs it.
 
     Metrics, element types and hologram patterns come from ``plugin_manager`` (the default
-    plugins when omitted).
+    plugins when omitted). ``study``: only the planes specs read get their whole field (the
+    others past a small aperture only the aperture's box); for studies, thresholds and mount
+    plans, not for a simulation or review that shows every plane.
     """
     if plugin_manager is None:
         from benchcheck.plugin_manager import make_plugin_manager
@@ -36,4 +39,6 @@ def make_evaluator(layout: Layout, plugin_manager=None, registry: MetricRegistry
     evaluator.simulate = WaveSimulator(layout, evaluator.nominal, evaluator.realization(),
                                        patterns=registries.patterns, plugin_matrices=registries.plugin_matrices,
                                        plugin_masks=registries.plugin_masks)
+    if study:
+        evaluator.simulate.full_planes = frozenset(spec.at for spec in layout.specs)
     return evaluator

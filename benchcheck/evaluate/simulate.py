@@ -47,7 +47,7 @@ from benchcheck.wave.grid import Grid
 from benchcheck.wave.holograms import builtin_patterns
 from benchcheck.wave.moments import beam_moments
 from benchcheck.wave.sampling import fast_size
-from benchcheck.wave.stages import propagate
+from benchcheck.wave.stages import natural_output_grid, propagate
 
 __all__ = ["PlaneResult", "SimulationResult", "WaveSimulator", "DEFAULT_WINDOW_RADII"]
 
@@ -70,6 +70,7 @@ class PlaneResult:
     frame: CameraFrame | None = None
     method: str = ""
     notes: tuple[str, ...] = ()
+    partial: bool = False  # the arriving field was made only on the aperture's box (full_planes)
 
 
 @dataclass(frozen=True)
@@ -91,7 +92,7 @@ class SimulationResult:
         A plane simulated without its target gets it from ``target_source`` when there is one
         and ``with_target`` says a metric there reads it.
         """
-        if plane not in self.planes:
+        if plane not in self.planes or self.planes[plane].partial:
             return {}
         result = self.planes[plane]
         if with_target and result.target is None and self.target_source is not None:
@@ -134,7 +135,11 @@ class WaveSimulator:
     ``record_frames``: also make each camera's frame (pixel integration and quantisation);
     studies leave it off unless a metric needs the frame. ``lazy_targets``: a call through
     ``__call__`` (the Evaluator's) makes targets only when a metric context asks for one;
-    ``simulate(with_targets=True)`` always makes them all.
+    ``simulate(with_targets=True)`` always makes them all. ``full_planes``: the planes whose
+    field is made over the whole window (None: all). A study names its spec planes; at any
+    other small aperture the arriving field is made only on the aperture's box, the only
+    part the next stage reads (the light blocked there is counted from the power that left
+    the plane before).
     """
 
     layout: Layout
@@ -146,6 +151,7 @@ class WaveSimulator:
     plugin_matrices: Mapping = field(default_factory=dict)
     plugin_masks: Mapping = field(default_factory=dict)
     lazy_targets: bool = True
+    full_planes: frozenset | None = None
     _targets: OrderedDict = field(default_factory=OrderedDict, init=False, repr=False)
     _target_starts: dict = field(default_factory=dict, init=False, repr=False)
     _holograms: dict = field(default_factory=dict, init=False, repr=False)
@@ -202,7 +208,7 @@ class WaveSimulator:
             extra = (self._replicas(realization, trace, masks, name), self._hologram(name).signature) \
                 if current is None and element.type == "modulator" else ()
             # a plane's field follows from the one before it: its key carries that plane's key
-            key = self._upstream.key(realization, name, previous_key, self.record_frames, *extra)
+            key = self._upstream.key(realization, name, previous_key, self.record_frames, self.full_planes, *extra)
             kept = self._upstream.get(name, key)
             if kept is None:
                 kept = self._compute_plane(realization, trace, masks, index, current, cells, state)
@@ -225,16 +231,18 @@ class WaveSimulator:
             leaving_power = None
         else:
             stage = stage_between(realization, trace, masks[index - 1], name, self.plugin_matrices)
+            box = self._box_only(element, current, stage, cells)
             try:
                 result = propagate(current, stage.matrix_x, stage.matrix_y, plane=name, cells=cells,
-                                   workers=self.workers)
+                                   workers=self.workers, output_box=box)
             except SamplingError as error:
                 raise SamplingError(f"{error} (fix: a larger [simulation] grid, or check the layout "
                                     f"around '{name}')") from None
             arriving = result.field
             leaving_power = (state["incident_power"] if cells is not None else current.power) * stage.amplitude**2
             if stage.amplitude != 1.0:
-                arriving = arriving.replace(values=arriving.values * np.float32(stage.amplitude))
+                arriving = Field(arriving.values * np.float32(stage.amplitude), arriving.grid, arriving.wavelength,
+                                 arriving.plane, support=arriving.support)
             method, stage_notes, cells = result.method, result.notes, None
         passed, loss = arriving, None
         if element.type not in OBSERVATION_TYPES and element.type != "modulator":
@@ -248,8 +256,19 @@ class WaveSimulator:
             frame = camera_frame(arriving, _camera_device(element))
         nominal = self.nominal_trace.plane(name)
         result = PlaneResult(name, arriving, passed, None, nominal.offset_in, nominal.angle_in, frame,
-                             method, tuple(stage_notes))
+                             method, tuple(stage_notes), partial=arriving.support is not None)
         return KeptPlane(result, cells, loss, tuple(changed.items()))
+
+    def _box_only(self, element, current: Field, stage, cells):
+        """The box of a small aperture on the stage's output grid, when only that part of the
+        arriving field is needed (a study, and no spec reads this plane); else None."""
+        if self.full_planes is None or element.name in self.full_planes or element.type in self.plugin_masks \
+                or element.type in OBSERVATION_TYPES or element.type == "modulator":
+            return None
+        if element.type != "aperture" and element.value("clear_aperture") is None:
+            return None
+        grid = natural_output_grid(current.grid, stage.matrix_x, stage.matrix_y, current.wavelength, cells)
+        return aperture_support(element, grid)
 
     def _masked(self, element, arriving: Field) -> Field:
         """The field past an element's mask; past a small aperture, zero outside its box (kept

@@ -55,7 +55,7 @@ def build_evaluator(layout: Layout, plugin_manager):
     the wave simulation for specs that need the field."""
     from benchcheck.evaluate.factory import make_evaluator
 
-    return make_evaluator(layout, plugin_manager)
+    return make_evaluator(layout, plugin_manager, study=True)
 
 
 def _adjuster_for(evaluator, layout: Layout):

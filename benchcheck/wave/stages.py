@@ -130,6 +130,7 @@ def propagate(
     plane: str = "",
     cells: PixelCells | None = None,
     workers: int = -1,
+    output_box: tuple[slice, slice] | None = None,
 ) -> StageResult:
     """Carry a field through one stage (Collins integral per axis, see the module docstring).
 
@@ -148,6 +149,11 @@ def propagate(
         Model the input as piecewise constant on modulator pixels (see pixel_cells).
     workers : int
         Threads for scipy.fft (-1: all cores).
+    output_box : tuple of slice, optional
+        (rows, columns) of the output grid: only these samples are computed, the rest are
+        left zero and the field carries the box as its support (a study's field just before
+        a small iris, where nothing outside the opening matters). Used on the Fourier branch;
+        other branches compute the whole window. No window check is made on such a field.
 
     Returns
     -------
@@ -172,15 +178,25 @@ def propagate(
         if output_grid is None:
             output_grid = natural_output_grid(field.grid, matrix_x, matrix_y, field.wavelength, cells)
             axes = plan_axes(field.grid, (matrix_x, matrix_y), field.wavelength, output_grid, allow_identity=False)
-        values = _cells_fourier(field, axes, cells, dtype, workers, notes)
+        values = _cells_fourier(field, axes, cells, dtype, workers, notes, output_box)
+        if output_box is not None:
+            return StageResult(_boxed(values, output_grid, field.wavelength, plane, output_box), "fourier", tuple(notes))
         out = Field(values, output_grid, field.wavelength, plane)
         found = check_window(out, plane)
         notes.extend(note.text() for note in found)  # replicas reach the edge by design
         return StageResult(out, "fourier", tuple(notes))
-    return _propagate_plain(field, (matrix_x, matrix_y), output_grid, plane, workers, True)
+    return _propagate_plain(field, (matrix_x, matrix_y), output_grid, plane, workers, True, output_box)
 
 
-def _propagate_plain(field: Field, matrices, output_grid, plane: str, workers: int, check_input: bool) -> StageResult:
+def _boxed(box_values: np.ndarray, grid: Grid, wavelength: float, plane: str, box) -> Field:
+    """A field on ``grid`` that is ``box_values`` on ``box`` and zero elsewhere (its support)."""
+    values = np.zeros(grid.shape, box_values.dtype)  # pages outside the box stay untouched
+    values[box] = box_values
+    return Field(values, grid, wavelength, plane, support=box)
+
+
+def _propagate_plain(field: Field, matrices, output_grid, plane: str, workers: int, check_input: bool,
+                     output_box=None) -> StageResult:
     dtype = np.complex128 if field.values.dtype == np.complex128 else np.complex64
     notes: list[str] = []
     axes = plan_axes(field.grid, matrices, field.wavelength, output_grid)
@@ -193,8 +209,14 @@ def _propagate_plain(field: Field, matrices, output_grid, plane: str, workers: i
         notes.extend(note.text() for note in found)
     work = field.values.astype(dtype, copy=False)
     owned = work is not field.values  # the input field is never changed: the first axis copies it
+    both_fourier = all(ax.branch == "fourier" for ax in axes)
     try:
-        if field.support is not None and all(ax.branch == "fourier" for ax in axes):
+        if output_box is not None and both_fourier:
+            box_values = _fourier_to_box(field, axes, dtype, workers, notes, output_box)
+            grid = output_grid if output_grid is not None else output_grid_of(axes)
+            return StageResult(_boxed(box_values, grid, field.wavelength, plane, output_box), "fourier",
+                               tuple(notes))
+        if field.support is not None and both_fourier:
             work = _pruned_fourier(field, axes, dtype, workers, notes)  # copies the box in ``dtype``
             axes_left = []
         else:
@@ -237,14 +259,37 @@ def _pruned_fourier(field: Field, axes, dtype, workers: int, notes: list) -> np.
     return fourier_axis(full, x_axis, field.wavelength, workers, notes, input_applied=True)
 
 
-def _cells_fourier(field: Field, axes, cells: PixelCells, dtype, workers: int, notes: list) -> np.ndarray:
+def _fourier_to_box(field: Field, axes, dtype, workers: int, notes: list, box) -> np.ndarray:
+    """The Fourier branch on both axes, only on the output samples of ``box`` (an array of the
+    box's shape): each axis's transform runs on the lines the next one needs."""
+    rows_out, columns_out = box
+    x_axis, y_axis = axes
+    if field.support is not None:  # y first, on the input box's columns, then x on the output rows
+        rows_in, columns_in = field.support
+        lines = np.zeros((field.grid.ny, columns_in.stop - columns_in.start), dtype)
+        lines[rows_in] = field.values[rows_in, columns_in]
+        lines = fourier_axis(lines, y_axis, field.wavelength, workers, notes)[rows_out]
+        lines *= fourier_parts(x_axis, field.wavelength)[0][columns_in].astype(dtype)[np.newaxis, :]
+        block = np.zeros((lines.shape[0], field.grid.nx), dtype)
+        block[:, columns_in] = lines
+        return fourier_axis(block, x_axis, field.wavelength, workers, notes, input_applied=True)[:, columns_out]
+    lines = fourier_axis(field.values.astype(dtype, copy=False), x_axis, field.wavelength, workers, notes,
+                         owned=False)[:, columns_out]
+    return fourier_axis(lines, y_axis, field.wavelength, workers, notes)[rows_out]
+
+
+def _cells_fourier(field: Field, axes, cells: PixelCells, dtype, workers: int, notes: list,
+                   box: tuple[slice, slice] | None = None) -> np.ndarray:
     """Fourier branch for pixel cells: array factor × aperture + flat dead-space term.
 
     Both axes' input chirps are applied as one outer product, and each axis's output factor
     is folded into its aperture weight (and central-period mask), so the field is read and
     written as few times as the two transforms allow. A separable background (a Gaussian
-    beam) is transformed per axis: its term costs two 1-D transforms.
+    beam) is transformed per axis: its term costs two 1-D transforms. With ``box`` (rows,
+    columns of the output) only those samples are made: after the x transform only the
+    box's columns go on to the y transform.
     """
+    keep = {0: slice(None), 1: slice(None)} if box is None else {0: box[0], 1: box[1]}
     wavelength = field.wavelength
     parts = [fourier_parts(ax, wavelength) for ax in axes]
     for ax in axes:
@@ -274,17 +319,17 @@ def _cells_fourier(field: Field, axes, cells: PixelCells, dtype, workers: int, n
             pixel_term -= background
         del factor_in
     for ax, (_, _, alpha, fft_path, _) in zip(axes, parts):
-        pixel_term = scaled_dft(pixel_term, ax.axis, alpha, ax.n_out, fft_path, workers)
+        pixel_term = _along(scaled_dft(pixel_term, ax.axis, alpha, ax.n_out, fft_path, workers), ax.axis, keep)
         if background is not None:
-            background = scaled_dft(background, ax.axis, alpha, ax.n_out, fft_path, workers)
+            background = _along(scaled_dft(background, ax.axis, alpha, ax.n_out, fft_path, workers), ax.axis, keep)
         elif separable:
             profiles[ax.axis] = scaled_dft(along_axis(profiles[ax.axis], ax.axis), ax.axis, alpha, ax.n_out,
-                                           fft_path, workers).ravel()
+                                           fft_path, workers).ravel()[keep[ax.axis]]
     dtype_name = np.dtype(dtype).name
     for ax, pitch, fill in zip(axes, cells.pitch, cells.fill_factor):
         aperture, central = cell_weights(ax, wavelength, pitch, fill, dtype_name)
-        pixel_term *= along_axis(aperture, ax.axis)
-        weight = by_axis[ax.axis][1].astype(dtype) if central is None else central
+        pixel_term *= along_axis(aperture[keep[ax.axis]], ax.axis)
+        weight = (by_axis[ax.axis][1].astype(dtype) if central is None else central)[keep[ax.axis]]
         if background is not None:
             background *= along_axis(weight, ax.axis)
         elif separable:
@@ -294,6 +339,13 @@ def _cells_fourier(field: Field, axes, cells: PixelCells, dtype, workers: int, n
     elif separable:
         _add_outer(pixel_term, profiles[0], profiles[1])
     return pixel_term
+
+
+def _along(values: np.ndarray, axis: int, keep: dict) -> np.ndarray:
+    """``values`` with only the kept indices along ``axis`` (all when the slice is full)."""
+    if keep[axis] == slice(None):
+        return values
+    return np.ascontiguousarray(values[:, keep[axis]] if axis == 1 else values[keep[axis]])
 
 
 def _add_outer(array: np.ndarray, column: np.ndarray, row: np.ndarray) -> None:
