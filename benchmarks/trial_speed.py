@@ -115,7 +115,7 @@ def _floor(grid: int, transforms: int, repeat: int) -> float:
 def _trial_times(path: Path, trials: int, fft_threads: int = -1) -> tuple[float, int, float]:
     """(median seconds per trial over drawn trials, transforms, peak traced bytes of one trial)."""
     layout = load_layout(path)
-    evaluator = make_evaluator(layout)
+    evaluator = make_evaluator(layout, study=True)  # as a study's trials run
     evaluator.simulate.workers = fft_threads
     perturbations = Sampler(tuple(resolve_dofs(layout)), "random", 11).perturbations(0, trials + 1)
     nominal = evaluator.evaluate(wave=True)  # builds the nominal caches, as a study's first trial does

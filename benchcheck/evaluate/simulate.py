@@ -12,7 +12,10 @@ Speed: a study's trials ask for targets lazily (``lazy_targets``), only at the p
 metric reads one; the nominal ideal field at the mask plane before each target plane is kept,
 so a target costs one stage onto the trial's grid (one FFT when only the window's centre
 moved, a chirp-z transform when a dof changed the pitch), and the last few targets are kept
-by grid.
+by grid. Each plane's result is kept with the excursions it was made for
+(``upstream_planes``): a realization that moves only what lies downstream starts from there.
+In a study (``full_planes``) a small aperture that no spec reads gets its arriving field only
+on the aperture's box.
 """
 
 from __future__ import annotations
@@ -20,7 +23,7 @@ from __future__ import annotations
 import dataclasses
 import math
 from collections import OrderedDict
-from collections.abc import Callable, Mapping
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -29,6 +32,15 @@ from benchcheck.bench.realization import Realization
 from benchcheck.errors import SamplingError
 from benchcheck.evaluate.masks import aperture_mask, aperture_support
 from benchcheck.evaluate.modulator_plane import intended_charge, load_phase_map, modulator_window, panel_hologram
+from benchcheck.evaluate.simulation_result import DesignBeam, PlaneResult, SimulationResult
+from benchcheck.evaluate.start_plane import (
+    DEFAULT_WINDOW_RADII,
+    MIN_GRID,
+    auto_size,
+    camera_device,
+    start_notes,
+    transmission_before,
+)
 from benchcheck.evaluate.upstream_planes import KeptPlane, UpstreamPlanes
 from benchcheck.evaluate.wave_path import (
     OBSERVATION_TYPES,
@@ -40,92 +52,15 @@ from benchcheck.layout.model import Layout
 from benchcheck.limits import check_wave_grid
 from benchcheck.optics.beam_trace import TraceResult
 from benchcheck.wave.beams import gaussian_field
-from benchcheck.wave.camera import CameraDevice, CameraFrame, camera_frame
+from benchcheck.wave.camera import camera_frame
 from benchcheck.wave.field import Field
 from benchcheck.wave.fft_backend import apply_fft_backend_from_environment
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.holograms import builtin_patterns
-from benchcheck.wave.moments import beam_moments
-from benchcheck.wave.sampling import fast_size
 from benchcheck.wave.stages import natural_output_grid, propagate
 
 __all__ = ["PlaneResult", "SimulationResult", "WaveSimulator", "DEFAULT_WINDOW_RADII"]
 
-#: Half-width of an automatic window in 1/e² radii of the arriving beam: a Gaussian puts
-#: erfc(3·√2) ≈ 2e-9 of its power outside ±3 w along each axis.
-DEFAULT_WINDOW_RADII = 3.0
-_MIN_GRID = 256
-
-
-@dataclass(frozen=True)
-class PlaneResult:
-    """The wave at one plane: arriving field, field after its mask, target, camera frame."""
-
-    name: str
-    field: Field
-    passed: Field
-    target: Field | None
-    axis: tuple[float, float]
-    axis_angle: tuple[float, float] = (0.0, 0.0)
-    frame: CameraFrame | None = None
-    method: str = ""
-    notes: tuple[str, ...] = ()
-    partial: bool = False  # the arriving field was made only on the aperture's box (full_planes)
-
-
-@dataclass(frozen=True)
-class SimulationResult:
-    """Fields at the wave planes of one realization, with power bookkeeping."""
-
-    planes: Mapping[str, PlaneResult]
-    source_power: float
-    incident_power: float | None
-    losses: tuple[tuple[str, float], ...]
-    charge: int | None
-    notes: tuple[str, ...] = ()
-    faults: tuple[str, ...] = ()
-    target_source: Callable[[PlaneResult], Field | None] | None = field(default=None, repr=False, compare=False)
-
-    def context_for(self, plane: str, with_target: bool = True) -> dict:
-        """The wave part of a MetricContext at ``plane`` (empty when the plane has no field).
-
-        A plane simulated without its target gets it from ``target_source`` when there is one
-        and ``with_target`` says a metric there reads it.
-        """
-        if plane not in self.planes or self.planes[plane].partial:
-            return {}
-        result = self.planes[plane]
-        if with_target and result.target is None and self.target_source is not None:
-            result = dataclasses.replace(result, target=self.target_source(result))
-        upstream = []
-        for name, blocked in self.losses:
-            upstream.append((name, blocked))
-            if name == plane:
-                break
-        return dict(field=result.field, target=result.target, axis=result.axis, axis_angle=result.axis_angle,
-                    incident_power=self.incident_power, losses=tuple(upstream), intended_charge=self.charge)
-
-    def plane_rows(self) -> list[dict]:
-        """Per plane, for the light leaving it (after its mask, as the trace's transmission):
-        power (fraction of source power), D4σ widths and centroid (ISO 11146-1)."""
-        rows = []
-        for name, result in self.planes.items():
-            try:
-                moments = beam_moments(result.passed)
-                widths, centroid = list(moments.widths), [moments.centroid_x, moments.centroid_y]
-            except ValueError:
-                widths, centroid = [None, None], [None, None]
-            rows.append({"name": name, "power": result.passed.power / self.source_power,
-                         "d4sigma_m": widths, "centroid_m": centroid})
-        return rows
-
-
-@dataclass(frozen=True)
-class DesignBeam:
-    """The nominal beam on the modulator, in the hologram's frame (for compensating holograms)."""
-
-    w: tuple[float, float]
-    center: tuple[float, float]
 
 
 @dataclass
@@ -253,7 +188,7 @@ class WaveSimulator:
             loss = (name, max(leaving - passed.power, 0.0) / self.source_power)
         frame = None
         if element.type == "camera" and self.record_frames:
-            frame = camera_frame(arriving, _camera_device(element))
+            frame = camera_frame(arriving, camera_device(element))
         nominal = self.nominal_trace.plane(name)
         result = PlaneResult(name, arriving, passed, None, nominal.offset_in, nominal.angle_in, frame,
                              method, tuple(stage_notes), partial=arriving.support is not None)
@@ -293,11 +228,11 @@ class WaveSimulator:
         element = realization.element(name)
         source = realization.source()
         arriving = arriving_beam(trace, name, realization.wavelength, source.m2)
-        power = self.source_power * _transmission_before(trace, realization, name)
+        power = self.source_power * transmission_before(trace, realization, name)
         size = self.layout.simulation.grid
         if element.type == "modulator":
             pitch = element.value("pixel_pitch")
-            size = size or _auto_size(arriving.w, pitch)
+            size = size or auto_size(arriving.w, pitch)
             replicas = self._replicas(realization, trace, masks, name)
             check_wave_grid(size, self.dtype, name, expansion=2 * replicas + 1)  # before allocating
             nominal_element = realization.bench.element(name)
@@ -312,7 +247,7 @@ class WaveSimulator:
         reach = max(arriving.w) * DEFAULT_WINDOW_RADII
         if element.type == "aperture" and element.value("diameter") is not None:
             reach = max(reach, 0.625 * element.value("diameter"))
-        size = check_wave_grid(size or _MIN_GRID * 2, self.dtype, name)  # before allocating
+        size = check_wave_grid(size or MIN_GRID * 2, self.dtype, name)  # before allocating
         pitch = 2 * reach / size
         center = arriving.position
         grid = Grid((size, size), (pitch, pitch), center)
@@ -414,64 +349,3 @@ class WaveSimulator:
             except SamplingError:
                 return None
         return field_now, stage_between(realization, trace, masks[-2], plane, self.plugin_matrices)
-
-
-def start_notes(realization: Realization, trace: TraceResult, name: str, field: Field, cells) -> list[str]:
-    """Explain the first plane's sampling, and flag hologram terms that alias on the pixels."""
-    element = realization.element(name)
-    grid = field.grid
-    w = max(arriving_beam(trace, name, realization.wavelength, realization.source().m2).w)
-    notes = [f"window {grid.nx} x {grid.ny} samples, {grid.extent[0] * 1e3:.3g} x {grid.extent[1] * 1e3:.3g} mm "
-             f"(±{grid.extent[0] / 2 / w:.2g} beam radii)"]
-    if cells is None:
-        return notes
-    notes.append(f"one sample per modulator pixel; pixel aperture {cells.fill_factor[0]:.3g} of the pitch wide "
-                 f"and {cells.dead_space} dead space, modelled analytically; {cells.replicas} replica period(s) kept")
-    hologram = element.value("hologram") or {}
-    pitch = min(element.value("pixel_pitch"))
-    wavelength = element.value("design_wavelength") or realization.wavelength
-    carrier = hologram.get("carrier", {}).get("period_px") or (
-        hologram.get("period_px") if hologram.get("pattern") == "grating" else None)
-    if carrier is not None and carrier < 2:
-        notes.append(f"carrier period {carrier:g} px is under 2 pixels: it aliases (fix: a longer period)")
-    focal_lengths = [hologram.get("lens")] + ([hologram.get("focal_length")] if hologram.get("pattern") == "lens" else [])
-    for focal_length in filter(None, focal_lengths):
-        # The lens phase πr²/(λf) steps by 2π p r/(λf) per pixel; over π it aliases.
-        radius = 2 * w
-        step = 2 * math.pi * pitch * radius / (wavelength * abs(focal_length))
-        if step > math.pi:
-            notes.append(f"lens term f = {focal_length * 1e3:.4g} mm steps {step:.2g} rad per pixel at r = 2w: "
-                         "it aliases (fix: a longer focal length)")
-    if hologram.get("pattern") == "axicon":
-        step = 2 * math.pi * pitch * math.sin(hologram.get("cone_angle", 0.0)) / wavelength
-        if step > math.pi:
-            notes.append(f"axicon steps {step:.2g} rad per pixel: it aliases (fix: a smaller cone angle)")
-    return notes
-
-
-def _transmission_before(trace: TraceResult, realization: Realization, name: str) -> float:
-    predecessor = next(iter(realization.bench.graph.predecessors(name)))
-    plane = trace.plane(predecessor)
-    element = realization.element(name)
-    if plane.type == "splitter" and element.arm != plane.arm:
-        ratio = realization.element(predecessor).value("ratio", 0.5)
-        return plane.transmission / max(1.0 - ratio, 1e-300) * ratio
-    return plane.transmission
-
-
-def _auto_size(w: tuple[float, float], pitch: tuple[float, float]) -> int:
-    """Pixels across a window of ±DEFAULT_WINDOW_RADII beam radii, FFT-friendly."""
-    needed = max(2 * DEFAULT_WINDOW_RADII * w[axis] / pitch[axis] for axis in (0, 1))
-    return fast_size(max(_MIN_GRID, int(math.ceil(needed))))
-
-
-def _camera_device(element) -> CameraDevice:
-    exposure = element.value("exposure", "auto")
-    if exposure != "auto":
-        try:
-            exposure = float(exposure)
-        except ValueError:
-            exposure = "auto"
-    return CameraDevice(pixel_pitch=element.value("pixel_pitch"), pixels=element.value("pixels"),
-                        bit_depth=min(element.value("bit_depth", 12), 16), exposure=exposure,
-                        center=(element.x, element.y))
