@@ -47,6 +47,7 @@ def main() -> None:
     simulator.simulate(realization, trace)  # first run builds and caches the targets
 
     def one_simulation():
+        simulator._upstream.clear()  # every plane computed again (a study keeps the unchanged ones)
         simulator.simulate(realization, trace)
 
     result = simulator.simulate(realization, trace)
@@ -66,6 +67,7 @@ def main() -> None:
         # The hologram built anew (its cache emptied), as the first simulation of a run does.
         for hologram in simulator._holograms.values():
             hologram.clear()
+        simulator._upstream.clear()
         simulator.simulate(realization, trace, with_targets=False)
 
     simulation_time = best_of(one_simulation, args.repeat)

@@ -21,9 +21,10 @@ from benchcheck.wave.modulator import ModulatorDevice, displayed_modulation, dri
 
 __all__ = ["PanelHologram", "MARGIN_SHARE"]
 
-#: Margin kept on each side of the first window, as a share of the window: the beam may move
-#: this far across the panel (a quarter of 1024 pixels of 8 µm is 2 mm) before the drive
-#: phase is computed again around the new window.
+#: Margin kept on each side of a window, as a share of the window: the beam may move this far
+#: across the panel (a quarter of 1024 pixels of 8 µm is 2 mm) before the drive phase is
+#: computed again around the new window. The first window gets none (a single simulation
+#: needs no more); the first window it does not cover brings the margin in.
 MARGIN_SHARE = 0.25
 
 #: Modulations kept (wavelength and device states); a wavelength dof makes a new one each trial.
@@ -75,7 +76,7 @@ class PanelHologram:
         return (id(self.compute_phase), self.pixels, self.pitch, self.registration)
 
     def clear(self) -> None:
-        """Forget the phase and modulations (the next window computes them again)."""
+        """Forget the phase and modulations (the next window computes them again, as the first)."""
         self._region, self._phase = None, None
         self._levels.clear()
         self._modulations.clear()
@@ -120,8 +121,9 @@ class PanelHologram:
 
     def _compute(self, ix: np.ndarray, iy: np.ndarray) -> None:
         bounds = []
+        first = self._region is None
         for indices, count in ((ix, self.pixels[0]), (iy, self.pixels[1])):
-            margin = int(MARGIN_SHARE * indices.size)
+            margin = 0 if first else int(MARGIN_SHARE * indices.size)
             low = max(int(indices[0]) - margin, -(count // 2))
             high = min(int(indices[-1]) + margin, count - 1 - count // 2)
             bounds.append((low, high - low + 1))
