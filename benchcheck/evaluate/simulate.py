@@ -140,13 +140,14 @@ class WaveSimulator:
             element = realization.element(name)
             # the modulator's window depends on the next mask too (replica periods it passes),
             # and on the hologram kept for it
-            extra = (self._replicas(realization, trace, masks, name), self._hologram(name).signature) \
-                if current is None and element.type == "modulator" else ()
+            replicas = self._replicas(realization, trace, masks, name) \
+                if current is None and element.type == "modulator" else None
+            extra = (replicas, self._hologram(name).signature) if replicas is not None else ()
             # a plane's field follows from the one before it: its key carries that plane's key
             key = self._upstream.key(realization, name, previous_key, self.record_frames, self.full_planes, *extra)
             kept = self._upstream.get(name, key)
             if kept is None:
-                kept = self._compute_plane(realization, trace, masks, index, current, cells, state)
+                kept = self._compute_plane(realization, trace, masks, index, current, cells, state, replicas)
                 self._upstream.keep(name, key, kept)
             state.update(kept.state)
             if kept.loss is not None:
@@ -155,13 +156,13 @@ class WaveSimulator:
             notes.extend(f"{name}: {note}" for note in kept.result.notes)
             current, cells, previous_key = kept.result.passed, kept.cells, key
 
-    def _compute_plane(self, realization, trace, masks, index, current, cells, state) -> KeptPlane:
+    def _compute_plane(self, realization, trace, masks, index, current, cells, state, replicas=None) -> KeptPlane:
         """The field at mask plane ``masks[index]``, from the field ``current`` that left the one before."""
         name = masks[index]
         element = realization.element(name)
         changed = {}
         if current is None:
-            arriving, cells = self._first_field(realization, trace, name, masks, changed)
+            arriving, cells = self._first_field(realization, trace, name, masks, changed, replicas=replicas)
             method, stage_notes = "start", tuple(start_notes(realization, trace, name, arriving, cells))
             leaving_power = None
         else:
@@ -223,7 +224,7 @@ class WaveSimulator:
             return mask.astype(arriving.values.dtype if np.iscomplexobj(mask) else arriving.values.real.dtype)
         return aperture_mask(element, arriving.grid).astype(arriving.values.real.dtype, copy=False)
 
-    def _first_field(self, realization, trace, name, masks, state, ideal=False):
+    def _first_field(self, realization, trace, name, masks, state, ideal=False, replicas=None):
         """The field at the first mask plane of a path, and the pixel cells if it is a modulator."""
         element = realization.element(name)
         source = realization.source()
@@ -233,7 +234,8 @@ class WaveSimulator:
         if element.type == "modulator":
             pitch = element.value("pixel_pitch")
             size = size or auto_size(arriving.w, pitch)
-            replicas = self._replicas(realization, trace, masks, name)
+            if replicas is None:
+                replicas = self._replicas(realization, trace, masks, name)
             check_wave_grid(size, self.dtype, name, expansion=2 * replicas + 1)  # before allocating
             nominal_element = realization.bench.element(name)
             window = modulator_window(

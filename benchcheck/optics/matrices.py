@@ -54,7 +54,8 @@ def as_ray_matrix(matrix: np.ndarray) -> np.ndarray:
     if array.shape == (2, 2):
         return ray_matrix(array[0, 0], array[0, 1], array[1, 0], array[1, 1])
     if array.shape == (3, 3):
-        if not np.array_equal(array[2], [0.0, 0.0, 1.0]):
+        last = array[2]
+        if not (last[0] == 0.0 and last[1] == 0.0 and last[2] == 1.0):  # scalar checks: called per element per trial
             raise ValueError(f"the last row of an ABCDEF matrix must be (0, 0, 1), got {array[2]}")
         return array.copy()
     raise ValueError(f"a ray matrix is 2x2 or 3x3, got shape {array.shape}")
