@@ -46,8 +46,8 @@ from benchcheck.wave.modulator import ModulatorDevice
 from benchcheck.wave.pixel_cells import PixelCells, SeparableBackground
 from benchcheck.wave.sums import power_sum
 
-__all__ = ["ModulatorWindow", "modulator_window", "panel_hologram", "ideal_modulation", "intended_charge",
-           "load_phase_map"]
+__all__ = ["ModulatorWindow", "modulator_window", "make_panel_hologram", "ideal_modulation",
+           "intended_charge", "load_phase_map"]
 
 _HOLOGRAM_TERMS = ("pattern", "encoding", "carrier", "lens", "compensate_input")
 
@@ -228,7 +228,7 @@ def ideal_modulation(element: Element, coordinates: PixelCoordinates, design_wav
     return np.asarray(output.amplitude) * np.exp(1j * extra)
 
 
-def panel_hologram(nominal: Element, layout: Layout, patterns: Mapping[str, HologramPattern] | None = None,
+def make_panel_hologram(nominal: Element, layout: Layout, patterns: Mapping[str, HologramPattern] | None = None,
                    phase_map: np.ndarray | None = None, design_beam=None) -> PanelHologram:
     """The drive phase of ``nominal``'s hologram, computed on demand over the panel (kept per study)."""
     patterns = compensated_patterns(patterns or builtin_patterns(), nominal.value("hologram") or {}, design_beam)
@@ -276,7 +276,7 @@ def modulator_window(
         The nominal arriving beam (``w``, ``center`` on the panel's pattern frame), for
         holograms that compensate the incident beam.
     hologram : PanelHologram, optional
-        The hologram kept for the study (:func:`panel_hologram`); made here when omitted.
+        The hologram kept for the study (:func:`make_panel_hologram`); made here when omitted.
     """
     pitch = real.value("pixel_pitch")
     (ix, iy), (on_x, on_y) = _window_pixels(nominal, real, arriving.position, size)
@@ -299,7 +299,7 @@ def modulator_window(
         values *= ideal_modulation(nominal, _pattern_coordinates(nominal, ix, iy), design_wavelength, patterns,
                                    phase_map).astype(dtype)
     else:
-        hologram = hologram or panel_hologram(nominal, layout, patterns, phase_map, design_beam)
+        hologram = hologram or make_panel_hologram(nominal, layout, patterns, phase_map, design_beam)
         depth = real.value("phase_depth", 1.0)
         design_wavelength = nominal.value("design_wavelength") or layout.wavelength
         device = ModulatorDevice(

@@ -31,7 +31,12 @@ import numpy as np
 from benchcheck.bench.realization import Realization
 from benchcheck.errors import SamplingError
 from benchcheck.evaluate.masks import aperture_mask, aperture_support
-from benchcheck.evaluate.modulator_plane import intended_charge, load_phase_map, modulator_window, panel_hologram
+from benchcheck.evaluate.modulator_plane import (
+    intended_charge,
+    load_phase_map,
+    make_panel_hologram,
+    modulator_window,
+)
 from benchcheck.evaluate.simulation_result import DesignBeam, PlaneResult, SimulationResult
 from benchcheck.evaluate.start_plane import (
     DEFAULT_WINDOW_RADII,
@@ -264,8 +269,8 @@ class WaveSimulator:
     def _hologram(self, name: str):
         """The modulator's hologram, computed once per study and sliced for every window."""
         if name not in self._holograms:
-            self._holograms[name] = panel_hologram(self.nominal.bench.element(name), self.layout, self.patterns,
-                                                   self._phase_map, self._design_beam(name))
+            self._holograms[name] = make_panel_hologram(self.nominal.bench.element(name), self.layout,
+                                                        self.patterns, self._phase_map, self._design_beam(name))
         return self._holograms[name]
 
     def _replicas(self, realization, trace, masks, name) -> int:

@@ -240,21 +240,21 @@ def _propagate_plain(field: Field, matrices, output_grid, plane: str, workers: i
     return StageResult(out, stage_method(axes), tuple(notes))
 
 
-def _pruned_fourier(field: Field, axes, dtype, workers: int, notes: list) -> np.ndarray:
+def _pruned_fourier(field: Field, axes, dtype, workers: int, notes: list, rows_out=slice(None)) -> np.ndarray:
     """Fourier branch on both axes for a field that is zero outside its support box.
 
     Along y only the box's columns are transformed (the other columns are zero and stay
     zero), and the x input factor is applied to those columns before they are placed in the
     full array; the full-size transform then runs along x, over contiguous rows (about twice
-    as fast as along y on one thread).
+    as fast as along y on one thread). ``rows_out``: only these output rows.
     """
     rows, columns = field.support
     x_axis, y_axis = axes  # plan_axes gives x, then y
     lines = np.zeros((field.grid.ny, columns.stop - columns.start), dtype)
     lines[rows] = field.values[rows, columns]
-    lines = fourier_axis(lines, y_axis, field.wavelength, workers, notes)
+    lines = fourier_axis(lines, y_axis, field.wavelength, workers, notes)[rows_out]
     lines *= fourier_parts(x_axis, field.wavelength)[0][columns].astype(dtype)[np.newaxis, :]
-    full = np.zeros((y_axis.n_out, field.grid.nx), dtype)
+    full = np.zeros((lines.shape[0], field.grid.nx), dtype)
     full[:, columns] = lines
     return fourier_axis(full, x_axis, field.wavelength, workers, notes, input_applied=True)
 
@@ -263,16 +263,9 @@ def _fourier_to_box(field: Field, axes, dtype, workers: int, notes: list, box) -
     """The Fourier branch on both axes, only on the output samples of ``box`` (an array of the
     box's shape): each axis's transform runs on the lines the next one needs."""
     rows_out, columns_out = box
+    if field.support is not None:
+        return _pruned_fourier(field, axes, dtype, workers, notes, rows_out)[:, columns_out]
     x_axis, y_axis = axes
-    if field.support is not None:  # y first, on the input box's columns, then x on the output rows
-        rows_in, columns_in = field.support
-        lines = np.zeros((field.grid.ny, columns_in.stop - columns_in.start), dtype)
-        lines[rows_in] = field.values[rows_in, columns_in]
-        lines = fourier_axis(lines, y_axis, field.wavelength, workers, notes)[rows_out]
-        lines *= fourier_parts(x_axis, field.wavelength)[0][columns_in].astype(dtype)[np.newaxis, :]
-        block = np.zeros((lines.shape[0], field.grid.nx), dtype)
-        block[:, columns_in] = lines
-        return fourier_axis(block, x_axis, field.wavelength, workers, notes, input_applied=True)[:, columns_out]
     lines = fourier_axis(field.values.astype(dtype, copy=False), x_axis, field.wavelength, workers, notes,
                          owned=False)[:, columns_out]
     return fourier_axis(lines, y_axis, field.wavelength, workers, notes)[rows_out]
