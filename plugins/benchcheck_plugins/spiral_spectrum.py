@@ -190,10 +190,12 @@ def spiral_spectrum(
     ring_count = min(int(math.ceil(outer / fine_pitch)), _MAX_RINGS)
     angle_count = min(max(_MIN_ANGLES, int(math.ceil(2 * math.pi * outer / fine_pitch))), _MAX_ANGLES)
     # Fewer where the light is smooth: a plane wave of frequency f is Σ iˡ J_l(2π f r) e^{ilφ}
-    # (Jacobi–Anger), and J_l(z) is negligible past l = z + 10 z^(1/3), so light up to
+    # (Jacobi–Anger), and J_l(z) is negligible past l = z + 10 z^(1/3) (its transition region
+    # is a few z^(1/3) wide; the factor 10 is a margin, from memory), so light up to
     # ``highest`` carries no charge beyond that at r <= outer; the angular samples must
     # exceed twice it (no aliasing). Radially, eight rings per period of the highest
-    # frequency of |a_l(r)|² (twice ``highest``) keep Simpson's rule well inside 1e-6.
+    # frequency of |a_l(r)|² (twice ``highest``): on the 4f example's camera fields the
+    # weights stayed within 5e-7 of the full-grid, full-ring computation.
     reach = 2 * math.pi * outer * highest
     charges_present = reach + 10 * reach ** (1 / 3) + 8
     angle_count = scipy.fft.next_fast_len(int(min(angle_count, max(_MIN_ANGLES, 2 * charges_present + 2))))
