@@ -1,15 +1,17 @@
 """Full tolerance trials of the 4f example against the FFT floor, a step-by-step reference,
 worker scaling and a projection to 10,000 trials (run by hand; nothing here is a test).
 
-    python3 benchmarks/trial_speed.py [--grids 256 512 1024] [--study-grid 1024]
+    python3 benchmarks/trial_speed.py [--grids 256 512 1024] [--trials 8] [--study-grid 1024]
                                       [--study-trials 200] [--reference-grid 1024]
 
 Every number is measured side by side in one run and printed as a ratio:
 
-* per-trial time of the Evaluator on drawn trials, against the FFT floor: the same number
-  of ``scipy.fft`` 2-D transforms of the same size and precision that the trial's own field
-  needs (two for the modulator stage with its flat dead space, one per further Fourier
-  stage). Two variants: a spec that reads the field only (efficiency at the camera) and one
+* per-trial time of the Evaluator on drawn trials (as a study runs them), against the FFT
+  floor: the same number of ``scipy.fft`` 2-D transforms of the same size and precision that
+  the trial's own field needs (two for the modulator stage with its flat dead space, one per
+  further Fourier stage), timed right after each trial, medians compared; and against the
+  transforms the trial really makes, recorded once and replayed the same way. Three
+  variants: a spec that reads the field only (efficiency at the camera) and one
   that also reads the target (mode purity), which costs one more stage for the target when
   a dof changed the sampled grid. With pyFFTW installed, the same with its backend;
 * the same for the example's own specs (OAM purity about the beam, efficiency, pointing);
@@ -93,25 +95,6 @@ def _layout_copy(folder: Path, grid: int, spec: str, fill_factor: float | None =
     return path
 
 
-def _best(function, repeat: int) -> float:
-    times = []
-    for _ in range(repeat):
-        start = time.perf_counter()
-        function()
-        times.append(time.perf_counter() - start)
-    return min(times)
-
-
-def _floor(grid: int, transforms: int, repeat: int) -> float:
-    field = (np.random.default_rng(1).standard_normal((grid, grid)) + 0j).astype(np.complex64)
-
-    def run():
-        for _ in range(transforms):
-            scipy.fft.fft2(field, workers=-1)
-
-    return _best(run, repeat)
-
-
 _TRANSFORMS = ("fft", "ifft", "fft2", "ifft2")
 
 
@@ -139,18 +122,18 @@ def _recorded_transforms(evaluator, perturbation) -> list[tuple[str, np.ndarray,
     return calls
 
 
-def _replayed(calls, repeat: int) -> float:
-    """Best time of the recorded transforms, each on a fresh copy of its input, all cores."""
-
-    def run():
-        for name, array, sizes, args in calls:
-            getattr(scipy.fft, name)(array, *args, workers=-1, **sizes)
-
-    return _best(run, repeat)
+def _replayed(calls) -> float:
+    """Time of the recorded transforms, on inputs of the recorded shapes and precision, all cores."""
+    start = time.perf_counter()
+    for name, array, sizes, args in calls:
+        getattr(scipy.fft, name)(array, *args, workers=-1, **sizes)
+    return time.perf_counter() - start
 
 
-def _trial_times(path: Path, trials: int, fft_threads: int = -1) -> tuple[float, int, float]:
-    """(median seconds per trial over drawn trials, transforms, peak traced bytes of one trial)."""
+def _trial_times(path: Path, trials: int, fft_threads: int = -1) -> dict:
+    """Per-trial time over drawn trials, each followed by the FFT floor and by the trial's own
+    transforms replayed (interleaved, so all three see the machine in the same state; medians),
+    with the number of floor transforms and the peak traced bytes of one trial."""
     layout = load_layout(path)
     evaluator = make_evaluator(layout, study=True)  # as a study's trials run
     evaluator.simulate.workers = fft_threads
@@ -158,17 +141,25 @@ def _trial_times(path: Path, trials: int, fft_threads: int = -1) -> tuple[float,
     nominal = evaluator.evaluate(wave=True)  # builds the nominal caches, as a study's first trial does
     stages = sum(1 for plane in nominal.simulation.planes.values() if plane.method != "start")
     transforms = stages + 1  # the flat dead space's transform at the modulator stage
-    times = []
+    recorded = _recorded_transforms(evaluator, perturbations[-1])  # a trial not seen before: its target is made
+    grid = nominal.simulation.planes[next(iter(nominal.simulation.planes))].field.grid.nx
+    floor_input = (np.random.default_rng(1).standard_normal((grid, grid)) + 0j).astype(np.complex64)
+    times = {"trial": [], "floor": [], "replay": []}
     for perturbation in perturbations[1:-1]:
         start = time.perf_counter()
         evaluator.evaluate(perturbation)
-        times.append(time.perf_counter() - start)
+        times["trial"].append(time.perf_counter() - start)
+        start = time.perf_counter()
+        for _ in range(transforms):
+            scipy.fft.fft2(floor_input, workers=-1)
+        times["floor"].append(time.perf_counter() - start)
+        times["replay"].append(_replayed(recorded))
     tracemalloc.start()
     evaluator.evaluate(perturbations[0])
     _, peak = tracemalloc.get_traced_memory()
     tracemalloc.stop()
-    recorded = _recorded_transforms(evaluator, perturbations[-1])  # a trial not seen before: its target is made
-    return float(np.median(times)), transforms, peak, recorded
+    result = {key: float(np.median(values)) for key, values in times.items()}
+    return {**result, "transforms": transforms, "recorded": len(recorded), "peak": peak}
 
 
 def _one_core_rate(path: Path, trials: int) -> float:
@@ -297,12 +288,12 @@ def main() -> None:
     parser.add_argument("--study-grid", type=int, default=1024)
     parser.add_argument("--study-trials", type=int, default=200)
     parser.add_argument("--reference-grid", type=int, default=1024)
-    parser.add_argument("--repeat", type=int, default=5)
     args = parser.parse_args()
     backends = ["scipy"] + (["pyfftw"] if fft_backend_available("pyfftw") else [])
     with tempfile.TemporaryDirectory() as folder:
         folder = Path(folder)
-        print("per-trial time of the 4f example (Evaluator, drawn trials, median) against the FFT floor")
+        print("per-trial time of the 4f example (Evaluator, drawn trials, median) against the FFT floor,")
+        print("  each trial followed by its floor and its own transforms, so all see the machine alike")
         print("  (floor: one 2-D scipy.fft transform of the grid per stage, one more for the modulator's")
         print("  dead space; the mode-purity spec also resamples its target onto the trial's camera grid")
         print("  when a dof changes that grid: one more stage, by chirp-z, not counted in the floor. Also")
@@ -312,15 +303,14 @@ def main() -> None:
             use_fft_backend(backend)
             for grid in args.grids:
                 for spec in ("field", "target", "example"):
-                    trial, transforms, peak, recorded = _trial_times(_layout_copy(folder, grid, spec), args.trials)
-                    floor = _floor(grid, transforms, args.repeat)
-                    replay = _replayed(recorded, args.repeat)
+                    timed = _trial_times(_layout_copy(folder, grid, spec), args.trials)
+                    trial, floor, replay = timed["trial"], timed["floor"], timed["replay"]
                     field_bytes = grid * grid * np.dtype(np.complex64).itemsize
                     print(f"  {backend:6s} grid {grid:5d} {spec:7s} spec: trial {trial * 1e3:8.1f} ms, "
-                          f"{transforms} fft2 {floor * 1e3:7.1f} ms, ratio {trial / floor:5.2f} "
-                          f"(target <= 1.5 at 512 and above); its own {len(recorded)} transforms "
+                          f"{timed['transforms']} fft2 {floor * 1e3:7.1f} ms, ratio {trial / floor:5.2f} "
+                          f"(target <= 1.5 at 512 and above); its own {timed['recorded']} transforms "
                           f"{replay * 1e3:6.1f} ms, ratio {trial / replay:5.2f}; "
-                          f"peak {peak / field_bytes:5.1f} field-sized arrays")
+                          f"peak {timed['peak'] / field_bytes:5.1f} field-sized arrays")
         use_fft_backend("scipy")
         print(f"study of the 4f example as shipped (its own specs) at {args.study_grid} x {args.study_grid}, "
               f"{args.study_trials} trials")

@@ -25,7 +25,7 @@ def _run(script: str, *arguments: str) -> str:
 @pytest.mark.slow
 def test_trial_speed_prints_its_ratios():
     output = _run("trial_speed.py", "--grids", "128", "--trials", "1", "--study-grid", "128",
-                  "--study-trials", "4", "--reference-grid", "128", "--repeat", "1")
+                  "--study-trials", "4", "--reference-grid", "128")
     assert "ratio" in output and "fft2" in output
     assert "from the second core" in output and "projected 10,000 trials" in output
     assert "example spec" in output and "mode purity" in output and "step-by-step reference" in output
