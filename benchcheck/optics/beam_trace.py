@@ -141,12 +141,13 @@ def _leaving(name, arm, kind, z, states, m2, wavelength, passed, transmission, a
 
 
 def _through(state: _AxisState, matrix: np.ndarray) -> _AxisState:
-    # Python floats: the same IEEE arithmetic as numpy scalars, without their per-operation
-    # cost (this runs twice per element per trial)
+    # Python floats: the same IEEE products and sums as numpy scalars, without their
+    # per-operation cost (this runs twice per element per trial); the complex division stays
+    # numpy's, whose rounding the vectorised trace (optics/batch_trace.py) shares.
     (a, b, e), (c, d, f) = as_ray_matrix(matrix)[:2].tolist()
     position = a * state.position + b * state.slope + e
     slope = c * state.position + d * state.slope + f
-    q = (a * state.q + b) / (c * state.q + d)  # the ABCD law, as propagate_q
+    q = complex(np.divide(a * state.q + b, c * state.q + d))  # the ABCD law, as propagate_q
     # + 0.0 turns a negative zero into zero, so tables and JSON do not show "-0".
     return _AxisState(q, position + 0.0, slope + 0.0)
 
