@@ -27,8 +27,9 @@ __all__ = ["PanelHologram", "MARGIN_SHARE"]
 #: needs no more); the first window it does not cover brings the margin in.
 MARGIN_SHARE = 0.25
 
-#: Modulations kept (wavelength and device states); a wavelength dof makes a new one each trial.
-MODULATIONS_KEPT = 4
+#: Modulations kept (wavelength and device states): the nominal one and the latest trial's. A
+#: wavelength dof makes a new one each trial; each is two complex arrays over the region.
+MODULATIONS_KEPT = 2
 
 
 @dataclass(frozen=True)
