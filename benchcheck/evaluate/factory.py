@@ -26,8 +26,10 @@ def make_evaluator(layout: Layout, plugin_manager=None, registry: MetricRegistry
 
     Metrics, element types and hologram patterns come from ``plugin_manager`` (the default
     plugins when omitted). ``study``: only the planes specs read get their whole field (the
-    others past a small aperture only the aperture's box); for studies, thresholds and mount
-    plans, not for a simulation or review that shows every plane.
+    others past a small aperture only the aperture's box), and a plane where a spec's metric
+    reads the target gets each trial's field on the nominal grid (the target is made there
+    once); for studies, thresholds and mount plans, not for a simulation or review that shows
+    every plane.
     """
     if plugin_manager is None:
         from benchcheck.plugin_manager import make_plugin_manager
@@ -41,4 +43,8 @@ def make_evaluator(layout: Layout, plugin_manager=None, registry: MetricRegistry
                                        plugin_masks=registries.plugin_masks)
     if study:
         evaluator.simulate.full_planes = frozenset(spec.at for spec in layout.specs)
+        evaluator.simulate.target_planes = frozenset(
+            spec.at for spec in layout.specs
+            if evaluator.registry.get(spec.metric).needs_field
+            and getattr(evaluator.registry.get(spec.metric), "needs_target", True))
     return evaluator

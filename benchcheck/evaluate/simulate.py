@@ -79,7 +79,9 @@ class WaveSimulator:
     field is made over the whole window (None: all). A study names its spec planes; at any
     other small aperture the arriving field is made only on the aperture's box, the only
     part the next stage reads (the light blocked there is counted from the power that left
-    the plane before).
+    the plane before). ``target_planes``: planes where a study's metric reads the target; a
+    trial lands its field there on the nominal grid, where the target is made once, instead of
+    carrying the target onto each trial's own grid.
     """
 
     layout: Layout
@@ -92,9 +94,11 @@ class WaveSimulator:
     plugin_masks: Mapping = field(default_factory=dict)
     lazy_targets: bool = True
     full_planes: frozenset | None = None
+    target_planes: frozenset = frozenset()
     _targets: OrderedDict = field(default_factory=OrderedDict, init=False, repr=False)
     _target_starts: dict = field(default_factory=dict, init=False, repr=False)
     _holograms: dict = field(default_factory=dict, init=False, repr=False)
+    _nominal_grids: dict = field(default_factory=dict, init=False, repr=False)
     _upstream: UpstreamPlanes = field(default_factory=UpstreamPlanes, init=False, repr=False)
     _phase_map: np.ndarray | None = field(default=None, init=False, repr=False)
 
@@ -149,7 +153,8 @@ class WaveSimulator:
                 if current is None and element.type == "modulator" else None
             extra = (replicas, self._hologram(name).signature) if replicas is not None else ()
             # a plane's field follows from the one before it: its key carries that plane's key
-            key = self._upstream.key(realization, name, previous_key, self.record_frames, self.full_planes, *extra)
+            key = self._upstream.key(realization, name, previous_key, self.record_frames, self.full_planes,
+                                     self.target_planes, *extra)
             kept = self._upstream.get(name, key)
             if kept is None:
                 kept = self._compute_plane(realization, trace, masks, index, current, cells, state, replicas)
@@ -175,7 +180,8 @@ class WaveSimulator:
             box = self._box_only(element, current, stage, cells)
             try:
                 result = propagate(current, stage.matrix_x, stage.matrix_y, plane=name, cells=cells,
-                                   workers=self.workers, output_box=box)
+                                   workers=self.workers, output_grid=self._target_grid(name, realization),
+                                   output_box=box)
             except SamplingError as error:
                 raise SamplingError(f"{error} (fix: a larger [simulation] grid, or check the layout "
                                     f"around '{name}')") from None
@@ -198,7 +204,17 @@ class WaveSimulator:
         nominal = self.nominal_trace.plane(name)
         result = PlaneResult(name, arriving, passed, None, nominal.offset_in, nominal.angle_in, frame,
                              method, tuple(stage_notes), partial=arriving.support is not None)
+        if _is_nominal(realization):
+            self._nominal_grids[name] = arriving.grid
         return KeptPlane(result, cells, loss, tuple(changed.items()))
+
+    def _target_grid(self, name: str, realization: Realization) -> Grid | None:
+        """The nominal grid of a target plane for a study's trial there, else None (the natural grid)."""
+        if name not in self.target_planes or _is_nominal(realization):
+            return None
+        if name not in self._nominal_grids:  # a worker's first trial: simulate the nominal bench once
+            self.simulate(self.nominal, self.nominal_trace, with_targets=False)
+        return self._nominal_grids.get(name)
 
     def _box_only(self, element, current: Field, stage, cells):
         """The box of a small aperture on the stage's output grid, when only that part of the
@@ -356,3 +372,7 @@ class WaveSimulator:
             except SamplingError:
                 return None
         return field_now, stage_between(realization, trace, masks[-2], plane, self.plugin_matrices)
+
+
+def _is_nominal(realization: Realization) -> bool:
+    return not any(value != 0.0 for value in realization.perturbation.values())

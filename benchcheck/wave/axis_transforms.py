@@ -136,9 +136,22 @@ def along_axis(vector: np.ndarray, axis: int) -> np.ndarray:
     return vector[np.newaxis, :] if axis == 1 else vector[:, np.newaxis]
 
 
-def scaled_dft(work: np.ndarray, axis: int, alpha: float, m_out: int, fft_path: bool, workers: int) -> np.ndarray:
-    """Σ_n work[n] exp(−2πi α n m), m = 0..m_out−1, along one axis."""
+def scaled_dft(work: np.ndarray, axis: int, alpha: float, m_out: int, fft_path: bool, workers: int,
+               first_index: int = 0) -> np.ndarray:
+    """Σ_n work[n] exp(−2πi α n m), m = 0..m_out−1, along one axis.
+
+    ``first_index``: ``work`` holds only the samples from this index on (the rest are zero), so
+    the sum is exp(−2πi α first m) Σ_k work[k] exp(−2πi α k m): a chirp-z transform as long as
+    the samples held, not the window. Chirp-z path only (the FFT needs the whole window).
+    """
     n = work.shape[axis]
+    if first_index:
+        if fft_path:
+            raise ValueError("first_index needs the chirp-z path")
+        out = chirp_z(work, alpha, m_out, axis, workers)
+        out *= along_axis(np.exp(-2j * np.pi * ((alpha * first_index * np.arange(m_out)) % 1.0)).astype(out.dtype),
+                          axis)
+        return out
     if fft_path:
         if alpha > 0:
             out = scipy.fft.fft(work, axis=axis, overwrite_x=True, workers=workers)
@@ -193,9 +206,10 @@ def cell_weights(ax: AxisPlan, wavelength: float, pitch: float, fill: float, dty
 
 
 def fourier_axis(work, ax: AxisPlan, wavelength: float, workers: int, notes: list, owned: bool = True,
-                 input_applied: bool = False) -> np.ndarray:
+                 input_applied: bool = False, first_index: int = 0) -> np.ndarray:
     """One axis of the Fourier branch; ``owned``: ``work`` may be overwritten (else it is left
-    as it is); ``input_applied``: the caller has applied the input factor already."""
+    as it is); ``input_applied``: the caller has applied the input factor already;
+    ``first_index``: ``work`` holds the samples from there on only (see :func:`scaled_dft`)."""
     factor_in, factor_out, alpha, fft_path, _ = fourier_parts(ax, wavelength)
     span = wavelength * abs(ax.b) / ax.pitch_in
     if not fft_path:
@@ -212,7 +226,7 @@ def fourier_axis(work, ax: AxisPlan, wavelength: float, workers: int, notes: lis
         work *= factor
     else:
         work = work * factor  # the copy the transform may overwrite, made by the first product
-    out = scaled_dft(work, ax.axis, alpha, ax.n_out, fft_path, workers)
+    out = scaled_dft(work, ax.axis, alpha, ax.n_out, fft_path, workers, first_index)
     out *= along_axis(factor_out.astype(out.dtype), ax.axis)
     return out
 

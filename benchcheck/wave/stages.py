@@ -253,7 +253,11 @@ def _pruned_fourier(field: Field, axes, dtype, workers: int, notes: list, rows_o
     lines = np.zeros((field.grid.ny, columns.stop - columns.start), dtype)
     lines[rows] = field.values[rows, columns]
     lines = fourier_axis(lines, y_axis, field.wavelength, workers, notes)[rows_out]
-    lines *= fourier_parts(x_axis, field.wavelength)[0][columns].astype(dtype)[np.newaxis, :]
+    factor_in, _, _, fft_path, _ = fourier_parts(x_axis, field.wavelength)
+    lines *= factor_in[columns].astype(dtype)[np.newaxis, :]
+    if not fft_path:  # a chirp-z transform as long as the box's columns, not the window
+        return fourier_axis(np.ascontiguousarray(lines), x_axis, field.wavelength, workers, notes,
+                            input_applied=True, first_index=columns.start)
     full = np.zeros((lines.shape[0], field.grid.nx), dtype)
     full[:, columns] = lines
     return fourier_axis(full, x_axis, field.wavelength, workers, notes, input_applied=True)
