@@ -12,8 +12,8 @@ Every number is measured side by side in one run and printed as a ratio:
   further Fourier stage), timed right after each trial, medians compared; and against the
   transforms the trial really makes, recorded once and replayed the same way. Three
   variants: a spec that reads the field only (efficiency at the camera) and one
-  that also reads the target (mode purity), which costs one more stage for the target when
-  a dof changed the sampled grid. With pyFFTW installed, the same with its backend;
+  that also reads the target (mode purity), for which each trial lands on the nominal camera
+  grid by a chirp-z transform. With pyFFTW installed, the same with its backend;
 * the same for the example's own specs (OAM purity about the beam, efficiency, pointing);
 * peak traced memory of one trial in field-sized arrays;
 * a study of the 4f example as shipped: the trial loop of one worker on one core (one FFT
@@ -295,10 +295,10 @@ def main() -> None:
         print("per-trial time of the 4f example (Evaluator, drawn trials, median) against the FFT floor,")
         print("  each trial followed by its floor and its own transforms, so all see the machine alike")
         print("  (floor: one 2-D scipy.fft transform of the grid per stage, one more for the modulator's")
-        print("  dead space; the mode-purity spec also resamples its target onto the trial's camera grid")
-        print("  when a dof changes that grid: one more stage, by chirp-z, not counted in the floor. Also")
-        print("  against the transforms the trial itself makes, its metrics' and target's included,")
-        print("  recorded in one trial and replayed at the same sizes and precision)")
+        print("  dead space; with the mode-purity spec each trial lands on the nominal camera grid, where")
+        print("  the target is made once, by a chirp-z transform. Also against the transforms the trial")
+        print("  itself makes, its metrics' included, recorded in one trial and replayed at the same")
+        print("  sizes and precision)")
         for backend in backends:
             use_fft_backend(backend)
             for grid in args.grids:
