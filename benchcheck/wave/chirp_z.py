@@ -68,6 +68,5 @@ def chirp_z(values: np.ndarray, alpha: float, m_out: int, axis: int, workers: in
     transformed = scipy.fft.fft(weighted, n=length, axis=axis, overwrite_x=True, workers=workers)
     transformed *= spectrum.reshape(shape)
     convolved = scipy.fft.ifft(transformed, axis=axis, overwrite_x=True, workers=workers)
-    out = np.take(convolved, np.arange(m_out), axis=axis)
-    out *= output_chirp.reshape(shape)
-    return out
+    kept = tuple(slice(0, m_out) if index == axis else slice(None) for index in range(values.ndim))
+    return np.multiply(convolved[kept], output_chirp.reshape(shape))  # one pass: the first m_out, chirped

@@ -40,8 +40,20 @@ def normalised_overlap(field_values: np.ndarray, target_values: np.ndarray) -> f
 
 
 def mode_purity(context: MetricContext) -> float:
-    """Normalised overlap of the simulated field with the target at this plane."""
-    return normalised_overlap(field_of(context).values, target_of(context).values)
+    """Normalised overlap of the simulated field with the target at this plane.
+
+    The same sums as :func:`normalised_overlap`; each field's own power sum is the one it
+    keeps (``Field.power``), so a study's fixed target is summed once.
+    """
+    field, target = field_of(context), target_of(context)
+    field_norm = field.power / field.grid.sample_area
+    target_norm = target.power / target.grid.sample_area
+    if not (field_norm > 0 and target_norm > 0):
+        raise MetricUnavailable("the field or the target carries no power")
+    if field.values.shape != target.values.shape:
+        raise MetricUnavailable(f"the target's grid {target.values.shape} is not the field's {field.values.shape}")
+    overlap = inner_product(target.values, field.values)
+    return float((overlap.real**2 + overlap.imag**2) / (field_norm * target_norm))
 
 
 def metrics() -> list[Metric]:
