@@ -16,16 +16,12 @@ import pytest
 
 from benchcheck.api import load_layout
 from benchcheck.evaluate.factory import make_evaluator
-
-LAYOUT = Path(__file__).resolve().parents[2] / "layouts" / "relay_4f_vortex.toml"
-
+from tests.speed.conftest import scaled_relay_text
 
 @pytest.fixture(scope="module")
 def layout(tmp_path_factory):
-    text = LAYOUT.read_text().replace("grid = 1024", "grid = 512").replace('pixel_pitch = "8 um"', 'pixel_pitch = "16 um"')
-    text = text.replace("period_px = 8,", "period_px = 4,")  # the same 64 µm carrier on 16 µm pixels
     path = tmp_path_factory.mktemp("study") / "relay.toml"
-    path.write_text(text)
+    path.write_text(scaled_relay_text(512))
     return load_layout(path)
 
 

@@ -8,24 +8,18 @@ simulator that never saw the earlier realization.
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import numpy as np
 import pytest
 
 from benchcheck.api import load_layout
 from benchcheck.evaluate.factory import make_evaluator
 from benchcheck.optics.beam_trace import trace_realization
-
-LAYOUT = Path(__file__).resolve().parents[2] / "layouts" / "relay_4f_vortex.toml"
-
+from tests.speed.conftest import scaled_relay_text
 
 @pytest.fixture(scope="module")
 def layout(tmp_path_factory):
-    text = LAYOUT.read_text().replace("grid = 1024", "grid = 256").replace('pixel_pitch = "8 um"', 'pixel_pitch = "32 um"')
-    text = text.replace("period_px = 8,", "period_px = 2,")  # the same 64 µm carrier on 32 µm pixels
     path = tmp_path_factory.mktemp("upstream") / "relay.toml"
-    path.write_text(text)
+    path.write_text(scaled_relay_text(256))
     return load_layout(path)
 
 

@@ -12,8 +12,6 @@ two camera fields (Maréchal: 1 − σ²).
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import pytest
 
 from benchcheck.api import load_layout
@@ -21,17 +19,15 @@ from benchcheck.evaluate.factory import make_evaluator
 from benchcheck.evaluate.panel_hologram import PanelHologram
 from benchcheck.optics.beam_trace import trace_realization
 from benchcheck.wave.sums import inner_product, power_sum
+from tests.speed.conftest import scaled_relay_text
 
-LAYOUT = Path(__file__).resolve().parents[2] / "layouts" / "relay_4f_vortex.toml"
-PITCH = 16e-6
+PITCH = 16e-6  # pixel pitch of the 512-pixel copy: the example's 8 µm times 1024 / 512
 
 
 @pytest.fixture(scope="module")
 def evaluator(tmp_path_factory):
-    text = LAYOUT.read_text().replace("grid = 1024", "grid = 512").replace('pixel_pitch = "8 um"', 'pixel_pitch = "16 um"')
-    text = text.replace("period_px = 8,", "period_px = 4,")  # the same 64 µm carrier on 16 µm pixels
     path = tmp_path_factory.mktemp("registration") / "relay.toml"
-    path.write_text(text + '\n[[spec]]\nmetric = "mode_purity"\nat = "cam"\nmin = 0.5\n')
+    path.write_text(scaled_relay_text(512, '\n[[spec]]\nmetric = "mode_purity"\nat = "cam"\nmin = 0.5\n'))
     return make_evaluator(load_layout(path))
 
 
