@@ -6,7 +6,10 @@ Opt. Express 13, 873 (2005)):
     E(r, φ) = Σ_l a_l(r) exp(i l φ),   a_l(r) = (1/2π) ∫ E(r, φ) exp(−i l φ) dφ,
     C_l = ∫ |a_l(r)|² r dr,            weight_l = C_l / Σ_m C_m.
 
-The field is interpolated on rings about the axis (cubic splines,
+OAM purity needs one weight only. Where the field's band is narrow (any field past an iris)
+it is computed in closed form from the band (charge_weight.py: Jacobi–Anger and Lommel's
+integral, no rings). Otherwise, and for the whole spectrum, the field is interpolated on
+rings about the axis (cubic splines,
 ``scipy.ndimage.map_coordinates``), the angular integral is an FFT along each ring
 (``scipy.fft``) and the radial one Simpson's rule
 (``scipy.integrate.simpson``) from the axis outwards. φ is measured from
@@ -35,7 +38,9 @@ from benchcheck.metrics import Metric, MetricContext, MetricUnavailable
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
 
+from benchcheck_plugins.charge_weight import charge_weight
 from benchcheck_plugins.inputs import double_values, field_of, float_option
+from benchcheck_plugins.spectral_band import power_by_column, reach_index
 
 __all__ = ["spiral_spectrum", "oam_purity", "metrics"]
 
@@ -60,13 +65,7 @@ _NEGLIGIBLE_POWER = 1e-10
 # samples with a weight falling as 0.268^n, so 12 samples make the crop's edge invisible
 # (0.268^12 ≈ 1e-7).
 _CROP_MARGIN = 12
-# Spectral power a band-limited resampling may leave out: the band left out is orthogonal to
-# the band kept (Parseval), so no weight moves by more than this share, about the accuracy of
-# the ring interpolation itself (2e-7 to 1.6e-6 against closed forms in the tests). Stray
-# light spread over a camera window carries 1e-7 to 1e-8 of the power out to the Nyquist
-# frequency, so a smaller share would keep the whole band. And the samples per period of the
-# highest frequency kept.
-_DROPPED_SPECTRAL_POWER = 1e-6
+# Samples per period of the highest frequency kept (the band itself: spectral_band.py).
 _SAMPLES_PER_PERIOD = 8
 
 
@@ -75,7 +74,7 @@ def _band_limited(field: Field) -> tuple[np.ndarray, Grid, float]:
     the highest spatial frequency (1/m, about zero frequency) that carries power.
 
     The grid is 2^j times the pitch, same centre; its spectrum is the field's, cropped to a
-    central band outside which, per axis, less than half of ``_DROPPED_SPECTRAL_POWER`` of the
+    central band outside which, per axis, less than half of ``DROPPED_SPECTRAL_POWER`` of the
     power lies, and the band's highest frequency gets ``_SAMPLES_PER_PERIOD`` samples a period.
     The x transform runs over every row; the y transform only over the columns of the x band
     kept (the others hold less than half the dropped share, by Parseval along y).
@@ -83,10 +82,10 @@ def _band_limited(field: Field) -> tuple[np.ndarray, Grid, float]:
     grid = field.grid
     # in the field's own precision
     along_rows = scipy.fft.fft(field.values, axis=1, workers=-1)
-    x_factor, x_reach, x_band = _band(_power_by_column(along_rows), grid.nx)
+    x_factor, x_reach, x_band = _band(power_by_column(along_rows), grid.nx)
     kept = along_rows[:, x_band] if x_band is not None else along_rows
     spectrum = scipy.fft.fft(kept, axis=0, workers=-1, overwrite_x=x_band is not None)
-    y_factor, y_reach, y_band = _band(_power_by_column(spectrum.T), grid.ny)
+    y_factor, y_reach, y_band = _band(power_by_column(spectrum.T), grid.ny)
     highest = float(np.hypot(x_reach / (grid.nx * grid.pitch[0]), y_reach / (grid.ny * grid.pitch[1])))
     if x_band is None and y_band is None:
         return np.asarray(field.values, dtype=np.complex128), grid, highest
@@ -96,20 +95,10 @@ def _band_limited(field: Field) -> tuple[np.ndarray, Grid, float]:
     return coarse, coarse_grid, highest
 
 
-def _power_by_column(transformed: np.ndarray) -> np.ndarray:
-    """Σ over rows of |values|² for each column (double-precision result)."""
-    power = np.abs(transformed)
-    power *= power
-    return (np.ones(power.shape[0], power.dtype) @ power).astype(np.float64)
-
-
 def _band(power: np.ndarray, n: int):
     """(decimation factor, highest frequency index carrying power, indices of the kept band
     in natural FFT order or None when nothing is dropped) for one axis's power spectrum."""
-    order = np.abs(scipy.fft.fftfreq(n, 1.0 / n)).astype(np.int64)  # |frequency index|
-    by_reach = np.bincount(order, weights=power, minlength=n // 2 + 1)
-    tail = np.cumsum(by_reach[::-1])[::-1] / max(power.sum(), 1e-300)  # share at |index| >= k
-    reach = int(np.flatnonzero(tail >= _DROPPED_SPECTRAL_POWER / 2)[-1])
+    reach = reach_index(power, n)
     factor = 1
     while n % (2 * factor) == 0 and n // (2 * factor) >= _SAMPLES_PER_PERIOD * max(reach, 1):
         factor *= 2
@@ -132,6 +121,20 @@ def _lit_radius(intensity: np.ndarray, mesh, axis, outer: float, pitch: float) -
     last_lit = int(np.searchsorted(enclosed, (1 - _NEGLIGIBLE_POWER) * enclosed[-1]))
     # Two shells more than the last lit one, and never fewer than the minimum ring count.
     return min(outer, max((last_lit + 2) * pitch, _MIN_RINGS * pitch))
+
+
+def _outer_radius(grid: Grid, axis, radius: float | None) -> float:
+    """The disc's radius: ``radius`` or, where None or larger, the largest circle about the
+    axis that stays in the window; ``MetricUnavailable`` when that is under the fewest rings."""
+    x, y = grid.x, grid.y
+    inside = min(axis[0] - x[0], x[-1] - axis[0], axis[1] - y[0], y[-1] - axis[1])
+    outer = inside if radius is None else min(radius, inside)
+    if not outer >= _MIN_RINGS * min(grid.pitch):
+        raise MetricUnavailable(
+            f"the axis ({axis[0]:.4g}, {axis[1]:.4g}) m is outside the field window or within "
+            f"{_MIN_RINGS} samples of its edge"
+        )
+    return outer
 
 
 def spiral_spectrum(
@@ -163,14 +166,7 @@ def spiral_spectrum(
         If the axis is outside the window or the rings cannot be sampled.
     """
     fine = field.grid
-    x, y = fine.x, fine.y
-    inside = min(axis[0] - x[0], x[-1] - axis[0], axis[1] - y[0], y[-1] - axis[1])
-    outer = inside if radius is None else min(radius, inside)
-    if not outer >= _MIN_RINGS * min(fine.pitch):
-        raise MetricUnavailable(
-            f"the axis ({axis[0]:.4g}, {axis[1]:.4g}) m is outside the field window or within "
-            f"{_MIN_RINGS} samples of its edge"
-        )
+    outer = _outer_radius(fine, axis, radius)
     values, grid, highest = _band_limited(field)
     pitch_x, pitch_y = grid.pitch
     pitch = min(pitch_x, pitch_y)
@@ -271,7 +267,10 @@ def oam_purity(context: MetricContext) -> float:
         level *= ramp_y[:, np.newaxis]
         field = field.replace(values=level)
     radius = float_option(context, "roi_radius", None)
-    charges, weights = spiral_spectrum(field, axis, radius)
+    weight = charge_weight(field, axis, int(context.intended_charge), _outer_radius(field.grid, axis, radius))
+    if weight is not None:
+        return weight
+    charges, weights = spiral_spectrum(field, axis, radius)  # a band too wide for the closed form
     matches = np.flatnonzero(charges == int(context.intended_charge))
     if matches.size == 0:
         raise MetricUnavailable(

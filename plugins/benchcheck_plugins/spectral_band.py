@@ -1,0 +1,36 @@
+"""How far out a sampled field's spectrum carries power, per axis.
+
+Shared by the two ways the OAM weights are computed (spiral_spectrum.py on rings,
+charge_weight.py in closed form): both keep every spatial frequency that carries more
+than ``DROPPED_SPECTRAL_POWER`` of the power and drop the rest.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import scipy.fft
+
+__all__ = ["DROPPED_SPECTRAL_POWER", "power_by_column", "reach_index"]
+
+# Spectral power the band kept may leave out, about the accuracy of the ring interpolation
+# itself (2e-7 to 1.6e-6 against closed forms in the tests). Stray light spread over a camera
+# window carries 1e-7 to 1e-8 of the power out to the Nyquist frequency, so a smaller share
+# would keep the whole band. Each axis may drop half of it.
+DROPPED_SPECTRAL_POWER = 1e-6
+
+
+def power_by_column(transformed: np.ndarray) -> np.ndarray:
+    """Σ over rows of |values|² for each column (double-precision result)."""
+    power = np.abs(transformed)
+    power *= power
+    return (np.ones(power.shape[0], power.dtype) @ power).astype(np.float64)
+
+
+def reach_index(power: np.ndarray, n: int) -> int:
+    """Highest |frequency index| at or beyond which at least half of
+    ``DROPPED_SPECTRAL_POWER`` of the power lies, for one axis's power spectrum (natural
+    FFT order, ``n`` samples)."""
+    order = np.abs(scipy.fft.fftfreq(n, 1.0 / n)).astype(np.int64)  # |frequency index|
+    by_reach = np.bincount(order, weights=power, minlength=n // 2 + 1)
+    tail = np.cumsum(by_reach[::-1])[::-1] / max(power.sum(), 1e-300)  # share at |index| >= k
+    return int(np.flatnonzero(tail >= DROPPED_SPECTRAL_POWER / 2)[-1])

@@ -1,0 +1,126 @@
+"""The closed-form weight of one OAM charge (charge_weight.py) against references outside it:
+scipy.integrate quadrature of Lommel's integral and of the spiral spectrum of exact
+Laguerre-Gauss modes (evaluated on rings from their formula, no interpolation), and the ring
+computation on the 4f example's camera fields."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+import scipy.fft
+import scipy.integrate
+import scipy.special
+
+from benchcheck.api import load_layout
+from benchcheck.evaluate.factory import make_evaluator
+from benchcheck.metrics import MetricContext
+from benchcheck.tolerance.dofs import resolve_dofs
+from benchcheck.tolerance.samplers import Sampler
+from benchcheck.wave.field import Field
+from benchcheck.wave.grid import Grid
+from benchcheck_plugins import spiral_spectrum as rings
+from benchcheck_plugins.charge_weight import _charge_power, charge_weight
+from benchcheck_plugins.spiral_spectrum import oam_purity, spiral_spectrum
+from tests.plugins.test_overlap_metrics import GRID, WAIST, WAVELENGTH, laguerre_gauss, laguerre_gauss_at
+from tests.speed.conftest import scaled_relay_text
+
+
+def lommel_by_quadrature(order, a, b, outer):
+    return scipy.integrate.quad(lambda r: scipy.special.jv(order, a * r) * scipy.special.jv(order, b * r) * r,
+                                0, outer, epsabs=0, epsrel=1e-12, limit=400)[0]
+
+
+@pytest.mark.parametrize("order", [0, 1, -3])
+def test_lommel_integrals_match_quadrature(order):
+    # The formulas in charge_weight.py are quoted from memory (Watson 1944 §5.11; DLMF
+    # §10.22(ii)): check them against quadrature, for distinct radii, a zero radius and radii
+    # 1e-7 apart (where the a ≠ b form loses digits to cancellation). With one-hot and
+    # two-hot coefficient vectors the quadratic form returns a diagonal entry and
+    # L_gg + L_hh + 2 L_gh. Tolerance 1e-9 relative: quadrature at 1e-12 and the
+    # cancellation (1e-16 / 1e-7 · ρR ≈ 1e-9 at worst).
+    outer = 1.3
+    rho = np.array([0.0, 2.0, 5.0, 7.1, 7.1 * (1 + 1e-7)])
+    for g in range(rho.size):
+        one = np.zeros(rho.size, complex)
+        one[g] = 1.0
+        assert _charge_power(one, rho, order, outer) == pytest.approx(
+            lommel_by_quadrature(order, rho[g], rho[g], outer), rel=1e-9, abs=1e-15)
+    for g, h in [(0, 2), (1, 2), (2, 4), (3, 4)]:
+        two = np.zeros(rho.size, complex)
+        two[[g, h]] = 1.0
+        expected = sum(lommel_by_quadrature(order, rho[i], rho[j], outer) for i in (g, h) for j in (g, h))
+        assert _charge_power(two, rho, order, outer) == pytest.approx(expected, rel=1e-9, abs=1e-15)
+
+
+def spiral_weights_by_quadrature(p, l, center, axis, outer, charges, angles=256):
+    """C_m / Σ C about ``axis`` within ``outer`` for LG_p^l centred at ``center``: the angular
+    harmonics by an FFT of the mode's own values on each ring (the trapezoidal rule, exact far
+    below 1e-12 for the few charges a displaced LG carries with 256 angles), the radial
+    integrals by scipy.integrate.quad (Torner, Torres and Carrasco, Opt. Express 13, 873 (2005))."""
+    angle = 2 * math.pi * np.arange(angles) / angles
+
+    def ring_power(r):
+        x = axis[0] + r * np.cos(angle) - center[0]
+        y = axis[1] + r * np.sin(angle) - center[1]
+        return np.abs(scipy.fft.fft(laguerre_gauss_at(x, y, p, l)) / angles) ** 2 * r
+
+    def radial(function):
+        return scipy.integrate.quad(function, 0, outer, epsabs=0, epsrel=1e-11, limit=400)[0]
+
+    total = radial(lambda r: ring_power(r).sum())
+    return [radial(lambda r, m=m: ring_power(r)[m % angles]) / total for m in charges]
+
+
+def test_charge_weights_of_a_displaced_higher_order_mode_match_quadrature():
+    # LG(2,−3) displaced from an axis that is itself off the grid's centre: the weights of
+    # four charges against the quadrature above. Tolerance 1e-8: the closed form is exact for
+    # the band it keeps, which leaves out under 1e-9 of this Gaussian-tailed spectrum
+    # (measured differences 2e-11 to 4e-10).
+    center, axis, outer = (0.3 * WAIST, -0.2 * WAIST), (0.1 * WAIST, 0.05 * WAIST), 7.5 * WAIST
+    charges = [-3, -2, 0, 1]
+    expected = spiral_weights_by_quadrature(2, -3, center, axis, outer, charges)
+    field = Field(laguerre_gauss(GRID, 2, -3, center=center), GRID, WAVELENGTH)
+    for charge, weight in zip(charges, expected):
+        assert charge_weight(field, axis, charge, outer) == pytest.approx(weight, abs=1e-8)
+    # The ring computation, on the same field, within its own accuracy (1e-5: cubic splines at
+    # 16 samples per waist on a mode with three radial nodes; measured 3.6e-6).
+    found, weights = spiral_spectrum(field, axis, outer)
+    for charge, weight in zip(charges, expected):
+        assert weights[found == charge][0] == pytest.approx(weight, abs=1e-5)
+
+
+def test_a_field_with_a_wide_band_falls_back_to_the_rings():
+    # White noise fills the whole band: the closed form declines (None) and the metric takes
+    # the ring computation, whose weights of all charges sum to one (Parseval on each ring).
+    rng = np.random.default_rng(3)
+    grid = Grid.square(64, WAIST / 8)
+    values = rng.standard_normal((64, 64)) + 1j * rng.standard_normal((64, 64))
+    field = Field(values, grid, WAVELENGTH)
+    assert charge_weight(field, (0.0, 0.0), 1, 3 * WAIST) is None
+    context = MetricContext(plane="work", wavelength=WAVELENGTH, field=field, axis=(0.0, 0.0), intended_charge=1)
+    charges, weights = spiral_spectrum(field, (0.0, 0.0))
+    assert oam_purity(context) == pytest.approx(weights[charges == 1][0], abs=1e-12)
+
+
+@pytest.mark.slow
+def test_camera_fields_of_the_4f_example_agree_with_the_rings(tmp_path, monkeypatch):
+    # Fields past the iris carry stray light over the whole window, so the band's box, not
+    # the disc, limits what is kept. The example's own OAM spec (about the beam's axis) on the
+    # nominal bench and three drawn trials at 256 pixels, by the closed form and, with it
+    # turned off, by the rings. 2e-6: the ring computation's own accuracy (cubic splines and
+    # Simpson's rule: 1.6e-6 against closed forms, test_overlap_metrics.py); measured ≤ 5e-7.
+    path = tmp_path / "relay.toml"
+    path.write_text(scaled_relay_text(256))
+    layout = load_layout(path)
+    perturbations = [None, *Sampler(tuple(resolve_dofs(layout)), "random", 5).perturbations(0, 3)]
+    used = []
+    closed_form = rings.charge_weight
+    monkeypatch.setattr(rings, "charge_weight", lambda *args: used.append(closed_form(*args)) or used[-1])
+    closed = [make_evaluator(layout).evaluate(p, wave=True).metrics["cam.oam_purity"] for p in perturbations]
+    assert len(used) == len(perturbations) and all(weight is not None for weight in used)
+    monkeypatch.setattr(rings, "charge_weight", lambda *args: None)
+    by_rings = [make_evaluator(layout).evaluate(p, wave=True).metrics["cam.oam_purity"] for p in perturbations]
+    assert closed == pytest.approx(by_rings, abs=2e-6)
+    assert min(by_rings) < 0.999  # the trials do move light out of the intended charge
