@@ -120,7 +120,9 @@ def _charge_power(coefficients: np.ndarray, rho: np.ndarray, order: int, outer: 
     cauchy = np.subtract.outer(rho * rho, rho * rho)
     np.fill_diagonal(cauchy, np.inf)  # 1/∞ = 0: the diagonal is added below
     np.reciprocal(cauchy, out=cauchy)
-    sums = cauchy @ np.stack([s * coefficients, p * coefficients], axis=1)  # Σ_h s_h c_h/(x_g−x_h), Σ_h p_h c_h/(…)
+    # Σ_h s_h c_h / (x_g − x_h) and the same with p, as real products (no complex copy of the matrix)
+    vectors = np.stack([s * coefficients, p * coefficients], axis=1)
+    sums = (cauchy @ vectors.view(np.float64)).view(np.complex128)
     applied = outer * (p * sums[:, 0] - s * sums[:, 1])
     diagonal = 0.5 * outer**2 * (s * s - scipy.special.jv(n - 1, z) * j_next)
     applied += diagonal * coefficients
