@@ -10,7 +10,8 @@ Every number is measured side by side in one run and printed as a ratio:
   floor: the same number of ``scipy.fft`` 2-D transforms of the same size and precision that
   the trial's own field needs (two for the modulator stage with its flat dead space, one per
   further Fourier stage), timed right after each trial, medians compared; and against the
-  transforms the trial really makes, recorded once and replayed the same way. Three
+  scipy.fft transforms the trial really makes, recorded once and replayed the same way (a
+  zoomed DFT of a short input is a matrix product, not a scipy.fft call: not counted). Three
   variants: a spec that reads the field only (efficiency at the camera) and one
   that also reads the target (mode purity), for which each trial lands on the nominal camera
   grid by a chirp-z transform. With pyFFTW installed, the same with its backend;
@@ -298,7 +299,7 @@ def main() -> None:
         print("  dead space; with the mode-purity spec each trial lands on the nominal camera grid, where")
         print("  the target is made once, by a chirp-z transform. Also against the transforms the trial")
         print("  itself makes, its metrics' included, recorded in one trial and replayed at the same")
-        print("  sizes and precision)")
+        print("  sizes and precision; zoomed DFTs of short inputs are matrix products, not counted there)")
         for backend in backends:
             use_fft_backend(backend)
             for grid in args.grids:

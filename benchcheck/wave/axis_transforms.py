@@ -16,6 +16,7 @@ import scipy.fft
 
 from benchcheck.errors import SamplingError
 from benchcheck.wave.chirp_z import chirp_z
+from benchcheck.wave.direct_dft import DIRECT_MAX_INPUT, direct_dft
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.pixel_cells import (
     aperture_weight,
@@ -141,10 +142,14 @@ def scaled_dft(work: np.ndarray, axis: int, alpha: float, m_out: int, fft_path: 
     """Σ_n work[n] exp(−2πi α n m), m = 0..m_out−1, along one axis.
 
     ``first_index``: ``work`` holds only the samples from this index on (the rest are zero), so
-    the sum is exp(−2πi α first m) Σ_k work[k] exp(−2πi α k m): a chirp-z transform as long as
-    the samples held, not the window. Chirp-z path only (the FFT needs the whole window).
+    the sum is exp(−2πi α first m) Σ_k work[k] exp(−2πi α k m): a transform as long as the
+    samples held, not the window. Off the FFT path only (the FFT needs the whole window). Off
+    that path, an input of at most ``DIRECT_MAX_INPUT`` samples is one matrix product
+    (direct_dft.py), a longer one a chirp-z transform.
     """
     n = work.shape[axis]
+    if not fft_path and n <= DIRECT_MAX_INPUT:  # a short input: one matrix product
+        return direct_dft(work, alpha, m_out, axis, first_index)
     if first_index:
         if fft_path:
             raise ValueError("first_index needs the chirp-z path")
