@@ -29,16 +29,19 @@ spline-interpolated ring points (about 6 ms against 35 ms on the 4f example's ca
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 
 import numpy as np
 import scipy.fft
 import scipy.special
 
+from benchcheck.metrics import MetricUnavailable
 from benchcheck.wave.field import Field
+from benchcheck.wave.grid import Grid
 
 from benchcheck_plugins.spectral_band import power_by_column, reach_index
 
-__all__ = ["charge_weight"]
+__all__ = ["FieldBand", "field_band", "band_centroid", "charge_weight"]
 
 # Frequencies (kept band) beyond which the closed form costs more than the rings: the
 # Lommel matrix grows as the square of the distinct radii among them.
@@ -55,26 +58,48 @@ _DISC_DROP = 1e-9
 _SAME_RADIUS = 1e-9
 
 
-def _band(field: Field):
-    """(S / (Nx Ny) on a box of rows −ry..ry and columns −rx..rx, zero outside the disc
-    kept; the box's frequencies fx, fy in 1/m; the mask of the disc), or None where the band
-    is too wide for the closed form.
+@dataclass(frozen=True)
+class FieldBand:
+    """A field's band: ``box`` holds S / (Nx Ny) on rows −ry..ry and columns −rx..rx (zero
+    outside ``disc``), at frequencies ``fx``, ``fy`` (1/m), for the field on ``grid``."""
+
+    box: np.ndarray
+    fx: np.ndarray
+    fy: np.ndarray
+    disc: np.ndarray
+    grid: Grid
+
+
+def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldBand | None:
+    """The band of ``field`` times exp(−ik(sx x + sy y)) (a beam along a tilted axis with this
+    linear phase taken out), or None where it is too wide for the closed form.
 
     The band is a disc about zero frequency: what a round cut leaves out mixes charges about
     any axis far less than a square one (on a lattice a disc is only nearly round). The box
     it is cut from reaches ``_BOX_MARGIN`` times as far as each axis's cut at half of
     ``DROPPED_SPECTRAL_POWER`` (a Gaussian spectrum's disc needs 1.07 times), and the disc
     leaves out at most ``_DISC_DROP`` of the power; stray light spread over the window can
-    make the box the limit.
+    make the box the limit. The y ramp is applied after the x transform, on the kept columns
+    only (a factor per row passes through a transform along the rows).
     """
     grid = field.grid
-    along_rows = scipy.fft.fft(field.values, axis=1, workers=-1)
+    wavenumber = 2 * math.pi / field.wavelength
+    if slopes[0]:
+        along_rows = field.values * np.exp(-1j * wavenumber * slopes[0] * grid.x).astype(field.values.dtype)
+        along_rows = scipy.fft.fft(along_rows, axis=1, overwrite_x=True, workers=-1)
+    else:
+        along_rows = scipy.fft.fft(field.values, axis=1, workers=-1)
     column_power = power_by_column(along_rows)
+    if not column_power.sum() > 0:
+        raise MetricUnavailable("the field carries no power in the window")
     reach_x = math.ceil(_BOX_MARGIN * reach_index(column_power, grid.nx))
     if 2 * reach_x + 1 > grid.nx:
         return None
     columns = np.arange(-reach_x, reach_x + 1) % grid.nx
-    spectrum = scipy.fft.fft(along_rows[:, columns], axis=0, workers=-1)
+    kept = along_rows[:, columns]
+    if slopes[1]:
+        kept *= np.exp(-1j * wavenumber * slopes[1] * grid.y).astype(kept.dtype)[:, np.newaxis]
+    spectrum = scipy.fft.fft(kept, axis=0, overwrite_x=True, workers=-1)
     reach_y = math.ceil(_BOX_MARGIN * reach_index(power_by_column(spectrum.T), grid.ny))
     if 2 * reach_y + 1 > grid.ny:
         return None
@@ -85,14 +110,40 @@ def _band(field: Field):
     radius = np.hypot(fx[np.newaxis, :], fy[:, np.newaxis])
     power = (box.real**2 + box.imag**2).ravel()
     by_radius = np.argsort(radius.ravel(), kind="stable")[::-1]  # outermost first
-    tail = np.cumsum(power[by_radius]) / max(float(column_power.sum()) / (grid.nx**2 * grid.ny), 1e-300)
+    tail = np.cumsum(power[by_radius]) / (float(column_power.sum()) / (grid.nx**2 * grid.ny))
     beyond = np.flatnonzero(tail < _DISC_DROP)  # may be dropped, outermost first
     outermost = radius.ravel()[by_radius[beyond[-1] + 1]] if beyond.size < power.size else 0.0
     disc = radius <= outermost
     if np.count_nonzero(disc) > _MAX_FREQUENCIES:
         return None
     box[~disc] = 0
-    return box, fx, fy, disc
+    return FieldBand(box, fx, fy, disc, grid)
+
+
+def band_centroid(band: FieldBand) -> tuple[float, float]:
+    """The centroid Σ x |E|² / Σ |E|² over the grid's samples, from the band alone.
+
+    Along x, the column sums M(x_n) = Σ_j |E(y_j, x_n)|² are Ny Σ_q R[q] exp(2πi q n / Nx),
+    R the autocorrelation of the box along its columns summed over its rows (Parseval along
+    y), and Σ_n n w^n = N / (w − 1) for w = exp(2πi q / N) ≠ 1 (the derivative of the
+    geometric series, w^N = 1), so the centroid is
+    x₀ + p (N − 1)/2 + (p / R[0]) Σ_{q≠0} R[q] / (w_q − 1); the same along y.
+    """
+    grid = band.grid
+    centroid = []
+    for axis, (n, pitch, first) in enumerate(((grid.nx, grid.pitch[0], grid.x[0]),
+                                              (grid.ny, grid.pitch[1], grid.y[0]))):
+        lines = band.box if axis == 0 else band.box.T  # the transform runs along each line
+        length = scipy.fft.next_fast_len(2 * lines.shape[1] - 1)
+        transformed = scipy.fft.fft(lines, n=length, axis=1)
+        correlation = scipy.fft.ifft((transformed.real**2 + transformed.imag**2).sum(axis=0))
+        lag = scipy.fft.fftfreq(length, 1.0 / length)  # R[q] sits at q mod length
+        reach = lines.shape[1] - 1
+        near = (np.abs(lag) <= reach) & (lag != 0)
+        w = np.exp(2j * math.pi * lag[near] / n)
+        moment = np.sum(correlation[near] / (w - 1.0)).real
+        centroid.append(first + pitch * (n - 1) / 2 + pitch * moment / correlation[0].real)
+    return float(centroid[0]), float(centroid[1])
 
 
 def _radial_groups(radius: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -140,29 +191,24 @@ def _disc_power(box: np.ndarray, frequency_step: tuple[float, float], reach: flo
     qy = scipy.fft.fftfreq(shape[0], 1.0 / shape[0]) * frequency_step[1]
     qx = scipy.fft.fftfreq(shape[1], 1.0 / shape[1]) * frequency_step[0]
     q = np.hypot(qx[np.newaxis, :], qy[:, np.newaxis])
-    near = (q <= 2 * reach * (1 + 1e-12)) & (q > 0)
+    # A(−q) = conj A(q) and D is even: one half-plane of lags, counted twice
+    half = (qy[:, np.newaxis] > 0) | ((qy[:, np.newaxis] == 0) & (qx[np.newaxis, :] > 0))
+    near = (q <= 2 * reach * (1 + 1e-12)) & half
     disc = outer * scipy.special.j1(2 * math.pi * q[near] * outer) / q[near]  # D(q); D(0) = πR²
-    return float(lags[0, 0] * math.pi * outer**2 + lags[near] @ disc)
+    return float(lags[0, 0] * math.pi * outer**2 + 2 * (lags[near] @ disc))
 
 
-def charge_weight(field: Field, axis: tuple[float, float], charge: int, outer: float) -> float | None:
-    """C_charge / Σ_m C_m about ``axis`` within the disc of radius ``outer`` (m), or None
-    where the field's band is too wide for the closed form (the caller then uses rings).
-
-    ``outer`` must keep the disc inside the window; the weight is then that of the spiral
-    spectrum (spiral_spectrum.py) without its ring sampling.
-    """
-    band = _band(field)
-    if band is None:
-        return None
-    box, fx, fy, disc = band
-    grid = field.grid
-    box *= np.exp(2j * math.pi * fx * (axis[0] - grid.x[0]))[np.newaxis, :]
-    box *= np.exp(2j * math.pi * fy * (axis[1] - grid.y[0]))[:, np.newaxis]
-    fx_all, fy_all = np.meshgrid(fx, fy)
-    amplitudes = box[disc]
-    rho = 2 * math.pi * np.hypot(fx_all[disc], fy_all[disc])
-    theta = np.arctan2(fy_all[disc], fx_all[disc])
+def charge_weight(band: FieldBand, axis: tuple[float, float], charge: int, outer: float) -> float:
+    """C_charge / Σ_m C_m of the field of ``band`` about ``axis`` within the disc of radius
+    ``outer`` (m), which must stay inside the window: the weight of the spiral spectrum
+    (spiral_spectrum.py) without its ring sampling."""
+    grid = band.grid
+    box = band.box * np.exp(2j * math.pi * band.fx * (axis[0] - grid.x[0]))[np.newaxis, :]
+    box *= np.exp(2j * math.pi * band.fy * (axis[1] - grid.y[0]))[:, np.newaxis]
+    fx_all, fy_all = np.meshgrid(band.fx, band.fy)
+    amplitudes = box[band.disc]
+    rho = 2 * math.pi * np.hypot(fx_all[band.disc], fy_all[band.disc])
+    theta = np.arctan2(fy_all[band.disc], fx_all[band.disc])
     groups, radii = _radial_groups(rho)
     turned = amplitudes * np.exp(-1j * charge * theta)
     coefficients = (np.bincount(groups, weights=turned.real, minlength=radii.size)
@@ -171,5 +217,5 @@ def charge_weight(field: Field, axis: tuple[float, float], charge: int, outer: f
     steps = (1.0 / (grid.nx * grid.pitch[0]), 1.0 / (grid.ny * grid.pitch[1]))
     total = _disc_power(box, steps, float(rho.max()) / (2 * math.pi), outer)
     if not total > 0:
-        return None
+        raise MetricUnavailable("the field carries no power within the disc about the axis")
     return 2 * math.pi * in_charge / total

@@ -12,9 +12,9 @@ from benchcheck_plugins import (
     beam_moments,
     flat_top,
     modal_overlap,
+    oam_purity,
     paraxial_metrics,
     power_metrics,
-    spiral_spectrum,
     wavefront,
 )
 
@@ -28,7 +28,7 @@ def benchcheck_register_metrics() -> list[Metric]:
         *paraxial_metrics.metrics(),
         *power_metrics.metrics(),
         *modal_overlap.metrics(),
-        *spiral_spectrum.metrics(),
+        *oam_purity.metrics(),
         *beam_moments.metrics(),
         *flat_top.metrics(),
         *wavefront.metrics(),

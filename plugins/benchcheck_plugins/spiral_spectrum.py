@@ -1,4 +1,4 @@
-"""OAM purity: the weight of the intended charge in the spiral spectrum about the target axis.
+"""The spiral spectrum (OAM charge weights) of a sampled field about an axis, on rings.
 
 The field about an axis is expanded in angular harmonics (Torner, Torres and Carrasco,
 Opt. Express 13, 873 (2005)):
@@ -6,10 +6,9 @@ Opt. Express 13, 873 (2005)):
     E(r, φ) = Σ_l a_l(r) exp(i l φ),   a_l(r) = (1/2π) ∫ E(r, φ) exp(−i l φ) dφ,
     C_l = ∫ |a_l(r)|² r dr,            weight_l = C_l / Σ_m C_m.
 
-OAM purity needs one weight only. Where the field's band is narrow (any field past an iris)
-it is computed in closed form from the band (charge_weight.py: Jacobi–Anger and Lommel's
-integral, no rings). Otherwise, and for the whole spectrum, the field is interpolated on
-rings about the axis (cubic splines,
+OAM purity (oam_purity.py) needs one weight only, which for a narrow band is computed in
+closed form (charge_weight.py). Here the whole spectrum is taken: the field is interpolated
+on rings about the axis (cubic splines,
 ``scipy.ndimage.map_coordinates``), the angular integral is an FFT along each ring
 (``scipy.fft``) and the radial one Simpson's rule
 (``scipy.integrate.simpson``) from the axis outwards. φ is measured from
@@ -34,17 +33,16 @@ import scipy.fft
 import scipy.integrate
 import scipy.ndimage
 
-from benchcheck.metrics import Metric, MetricContext, MetricUnavailable
+from benchcheck.metrics import MetricUnavailable
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
 
-from benchcheck_plugins.charge_weight import charge_weight
-from benchcheck_plugins.inputs import double_values, field_of, float_option
+from benchcheck_plugins.inputs import double_values
 from benchcheck_plugins.spectral_band import power_by_column, reach_index
 
-__all__ = ["spiral_spectrum", "oam_purity", "metrics"]
+__all__ = ["SOURCE", "outer_radius", "spiral_spectrum"]
 
-_SOURCE = "spiral spectrum weight C_l/ΣC_m, Torner, Torres and Carrasco, Opt. Express 13, 873 (2005)"
+SOURCE = "spiral spectrum weight C_l/ΣC_m, Torner, Torres and Carrasco, Opt. Express 13, 873 (2005)"
 
 # Fewest rings across the beam and angular samples per ring: below these the spectrum is
 # not resolved at all.
@@ -123,7 +121,7 @@ def _lit_radius(intensity: np.ndarray, mesh, axis, outer: float, pitch: float) -
     return min(outer, max((last_lit + 2) * pitch, _MIN_RINGS * pitch))
 
 
-def _outer_radius(grid: Grid, axis, radius: float | None) -> float:
+def outer_radius(grid: Grid, axis, radius: float | None) -> float:
     """The disc's radius: ``radius`` or, where None or larger, the largest circle about the
     axis that stays in the window; ``MetricUnavailable`` when that is under the fewest rings."""
     x, y = grid.x, grid.y
@@ -166,7 +164,7 @@ def spiral_spectrum(
         If the axis is outside the window or the rings cannot be sampled.
     """
     fine = field.grid
-    outer = _outer_radius(fine, axis, radius)
+    outer = outer_radius(fine, axis, radius)
     values, grid, highest = _band_limited(field)
     pitch_x, pitch_y = grid.pitch
     pitch = min(pitch_x, pitch_y)
@@ -219,71 +217,3 @@ def spiral_spectrum(
     charges = np.rint(scipy.fft.fftfreq(angle_count, 1.0 / angle_count)).astype(int)
     order = np.argsort(charges)
     return charges[order], weights[order] / total
-
-
-def _reference_axis(context: MetricContext, field: Field):
-    """The axis the spectrum is taken about: position (m) and direction (slopes, rad).
-
-    Option ``about = "target"`` (default): the target axis, fixed in the bench, so a beam
-    that is displaced or tilted against it loses purity (as an analyser aligned to the
-    nominal bench sees it; a tilt is a displacement in the Fourier plane). ``about =
-    "beam"``: the beam's own centroid and chief-ray direction (by the trace of this very
-    trial), so only the mode's own quality counts; pointing is then for the offset and
-    angle metrics.
-    """
-    about = context.options.get("about", "target")
-    if about == "target":
-        return context.axis, context.axis_angle
-    if about != "beam":
-        raise MetricUnavailable(f"option about = {about!r}: use \"target\" or \"beam\"")
-    # |E|² summed over each column and each row by BLAS matrix-vector products (sums of 10³
-    # samples each in the field's precision, totals in double)
-    intensity = np.abs(field.values)
-    intensity *= intensity
-    along_x = (np.ones(intensity.shape[0], intensity.dtype) @ intensity).astype(np.float64)
-    along_y = (intensity @ np.ones(intensity.shape[1], intensity.dtype)).astype(np.float64)
-    total = along_x.sum()
-    if not total > 0:
-        raise MetricUnavailable("the field carries no power in the window")
-    centroid = (float(along_x @ field.grid.x / total), float(along_y @ field.grid.y / total))
-    absolute = getattr(context.beam, "absolute", None)
-    slopes = tuple(absolute.angle_in) if absolute is not None else context.axis_angle
-    return centroid, slopes
-
-
-def oam_purity(context: MetricContext) -> float:
-    """Weight of the intended charge in the spiral spectrum about the target axis (or the beam's)."""
-    if context.intended_charge is None:
-        raise MetricUnavailable("the hologram at this bench intends no OAM charge")
-    field = field_of(context)
-    axis, (slope_x, slope_y) = _reference_axis(context, field)
-    if slope_x or slope_y:
-        # A beam arriving along a tilted axis carries exp(ik(sx x + sy y)); about that axis
-        # the spiral spectrum is that of the field with this linear phase taken out.
-        wavenumber = 2 * math.pi / context.wavelength
-        ramp_x = np.exp(-1j * wavenumber * slope_x * (field.grid.x - axis[0])).astype(field.values.dtype)
-        ramp_y = np.exp(-1j * wavenumber * slope_y * (field.grid.y - axis[1])).astype(field.values.dtype)
-        level = field.values * ramp_x[np.newaxis, :]  # two passes in the field's own precision
-        level *= ramp_y[:, np.newaxis]
-        field = field.replace(values=level)
-    radius = float_option(context, "roi_radius", None)
-    weight = charge_weight(field, axis, int(context.intended_charge), _outer_radius(field.grid, axis, radius))
-    if weight is not None:
-        return weight
-    charges, weights = spiral_spectrum(field, axis, radius)  # a band too wide for the closed form
-    matches = np.flatnonzero(charges == int(context.intended_charge))
-    if matches.size == 0:
-        raise MetricUnavailable(
-            f"charge {context.intended_charge} is beyond what {charges.size} angular samples resolve"
-        )
-    return float(weights[matches[0]])
-
-
-def metrics() -> list[Metric]:
-    """The spiral spectrum family."""
-    return [
-        Metric("oam_purity", oam_purity, True, "",
-               "Weight of the intended OAM charge in the spiral spectrum about the target axis "
-               "(option about = \"beam\": about the beam's own centroid and direction; option "
-               "roi_radius in m limits the rings).", _SOURCE, needs_target=False),
-    ]

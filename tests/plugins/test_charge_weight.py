@@ -20,9 +20,10 @@ from benchcheck.tolerance.dofs import resolve_dofs
 from benchcheck.tolerance.samplers import Sampler
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
-from benchcheck_plugins import spiral_spectrum as rings
-from benchcheck_plugins.charge_weight import _charge_power, charge_weight
-from benchcheck_plugins.spiral_spectrum import oam_purity, spiral_spectrum
+from benchcheck_plugins import oam_purity as metric
+from benchcheck_plugins.charge_weight import _charge_power, band_centroid, charge_weight, field_band
+from benchcheck_plugins.oam_purity import oam_purity
+from benchcheck_plugins.spiral_spectrum import spiral_spectrum
 from tests.plugins.test_overlap_metrics import GRID, WAIST, WAVELENGTH, laguerre_gauss, laguerre_gauss_at
 from tests.speed.conftest import scaled_relay_text
 
@@ -83,7 +84,7 @@ def test_charge_weights_of_a_displaced_higher_order_mode_match_quadrature():
     expected = spiral_weights_by_quadrature(2, -3, center, axis, outer, charges)
     field = Field(laguerre_gauss(GRID, 2, -3, center=center), GRID, WAVELENGTH)
     for charge, weight in zip(charges, expected):
-        assert charge_weight(field, axis, charge, outer) == pytest.approx(weight, abs=1e-8)
+        assert charge_weight(field_band(field), axis, charge, outer) == pytest.approx(weight, abs=1e-8)
     # The ring computation, on the same field, within its own accuracy (1e-5: cubic splines at
     # 16 samples per waist on a mode with three radial nodes; measured 3.6e-6).
     found, weights = spiral_spectrum(field, axis, outer)
@@ -92,13 +93,13 @@ def test_charge_weights_of_a_displaced_higher_order_mode_match_quadrature():
 
 
 def test_a_field_with_a_wide_band_falls_back_to_the_rings():
-    # White noise fills the whole band: the closed form declines (None) and the metric takes
+    # White noise fills the whole band: the closed form declines (no band) and the metric takes
     # the ring computation, whose weights of all charges sum to one (Parseval on each ring).
     rng = np.random.default_rng(3)
     grid = Grid.square(64, WAIST / 8)
     values = rng.standard_normal((64, 64)) + 1j * rng.standard_normal((64, 64))
     field = Field(values, grid, WAVELENGTH)
-    assert charge_weight(field, (0.0, 0.0), 1, 3 * WAIST) is None
+    assert field_band(field) is None
     context = MetricContext(plane="work", wavelength=WAVELENGTH, field=field, axis=(0.0, 0.0), intended_charge=1)
     charges, weights = spiral_spectrum(field, (0.0, 0.0))
     assert oam_purity(context) == pytest.approx(weights[charges == 1][0], abs=1e-12)
@@ -116,11 +117,24 @@ def test_camera_fields_of_the_4f_example_agree_with_the_rings(tmp_path, monkeypa
     layout = load_layout(path)
     perturbations = [None, *Sampler(tuple(resolve_dofs(layout)), "random", 5).perturbations(0, 3)]
     used = []
-    closed_form = rings.charge_weight
-    monkeypatch.setattr(rings, "charge_weight", lambda *args: used.append(closed_form(*args)) or used[-1])
+    closed_form = metric.field_band
+    monkeypatch.setattr(metric, "field_band", lambda *args: used.append(closed_form(*args)) or used[-1])
     closed = [make_evaluator(layout).evaluate(p, wave=True).metrics["cam.oam_purity"] for p in perturbations]
-    assert len(used) == len(perturbations) and all(weight is not None for weight in used)
-    monkeypatch.setattr(rings, "charge_weight", lambda *args: None)
+    assert len(used) == len(perturbations) and all(band is not None for band in used)
+    monkeypatch.setattr(metric, "field_band", lambda *args: None)
     by_rings = [make_evaluator(layout).evaluate(p, wave=True).metrics["cam.oam_purity"] for p in perturbations]
     assert closed == pytest.approx(by_rings, abs=2e-6)
     assert min(by_rings) < 0.999  # the trials do move light out of the intended charge
+
+
+def test_centroid_from_the_band_matches_the_grid_sums():
+    # A displaced LG(0,1) has its centroid at its centre (|E|² is symmetric about it); the
+    # grid sums of the ring path find it to float rounding. The band's closed form must agree
+    # with both: 1e-9 waist covers the share of the power the band leaves out (under 1e-9,
+    # each moving the centroid by at most its share times the window's half-width, 8 waists).
+    center = (0.3 * WAIST, -0.2 * WAIST)
+    field = Field(laguerre_gauss(GRID, 0, 1, center=center), GRID, WAVELENGTH)
+    from_band = band_centroid(field_band(field))
+    from_grid = metric._centroid(field)
+    assert from_grid == pytest.approx(center, abs=1e-12 * WAIST)
+    assert from_band == pytest.approx(center, abs=1e-9 * WAIST)

@@ -12,7 +12,7 @@ from scipy import special
 from benchcheck.metrics import MetricContext
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
-from benchcheck_plugins.spiral_spectrum import oam_purity
+from benchcheck_plugins.oam_purity import oam_purity
 
 WAVELENGTH = 1e-6
 WAIST = 1e-3

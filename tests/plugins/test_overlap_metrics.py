@@ -13,7 +13,8 @@ from benchcheck.metrics import MetricContext
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
 from benchcheck_plugins.modal_overlap import mode_purity, normalised_overlap
-from benchcheck_plugins.spiral_spectrum import oam_purity, spiral_spectrum
+from benchcheck_plugins.oam_purity import oam_purity
+from benchcheck_plugins.spiral_spectrum import spiral_spectrum
 
 WAIST = 1.0e-3  # m
 WAVELENGTH = 1.064e-6  # m
