@@ -138,21 +138,22 @@ def along_axis(vector: np.ndarray, axis: int) -> np.ndarray:
 
 
 def scaled_dft(work: np.ndarray, axis: int, alpha: float, m_out: int, fft_path: bool, workers: int,
-               first_index: int = 0) -> np.ndarray:
+               first_index: int | None = None) -> np.ndarray:
     """Σ_n work[n] exp(−2πi α n m), m = 0..m_out−1, along one axis.
 
     ``first_index``: ``work`` holds only the samples from this index on (the rest are zero), so
     the sum is exp(−2πi α first m) Σ_k work[k] exp(−2πi α k m): a transform as long as the
-    samples held, not the window. Off the FFT path only (the FFT needs the whole window). Off
-    that path, an input of at most ``DIRECT_MAX_INPUT`` samples is one matrix product
-    (direct_dft.py), a longer one a chirp-z transform.
+    samples held, not the window. Such a part of at most ``DIRECT_MAX_INPUT`` samples, and
+    any input that short off the FFT path, is one matrix product (direct_dft.py); a longer
+    part needs the chirp-z path (the FFT needs the whole window).
     """
     n = work.shape[axis]
-    if not fft_path and n <= DIRECT_MAX_INPUT:  # a short input: one matrix product
-        return direct_dft(work, alpha, m_out, axis, first_index)
-    if first_index:
+    partial = first_index is not None
+    if n <= DIRECT_MAX_INPUT and (partial or not fft_path):  # a short input: one matrix product
+        return direct_dft(work, alpha, m_out, axis, first_index or 0)
+    if partial:
         if fft_path:
-            raise ValueError("first_index needs the chirp-z path")
+            raise ValueError("a part of the window longer than DIRECT_MAX_INPUT needs the chirp-z path")
         out = chirp_z(work, alpha, m_out, axis, workers)
         out *= along_axis(np.exp(-2j * np.pi * ((alpha * first_index * np.arange(m_out)) % 1.0)).astype(out.dtype),
                           axis)
@@ -211,7 +212,7 @@ def cell_weights(ax: AxisPlan, wavelength: float, pitch: float, fill: float, dty
 
 
 def fourier_axis(work, ax: AxisPlan, wavelength: float, workers: int, notes: list, owned: bool = True,
-                 input_applied: bool = False, first_index: int = 0) -> np.ndarray:
+                 input_applied: bool = False, first_index: int | None = None) -> np.ndarray:
     """One axis of the Fourier branch; ``owned``: ``work`` may be overwritten (else it is left
     as it is); ``input_applied``: the caller has applied the input factor already;
     ``first_index``: ``work`` holds the samples from there on only (see :func:`scaled_dft`)."""

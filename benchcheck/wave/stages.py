@@ -56,6 +56,7 @@ from benchcheck.wave.axis_transforms import (
     split_axis,
     stage_method,
 )
+from benchcheck.wave.direct_dft import DIRECT_MAX_INPUT
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.pixel_cells import (
@@ -244,23 +245,35 @@ def _pruned_fourier(field: Field, axes, dtype, workers: int, notes: list, rows_o
     """Fourier branch on both axes for a field that is zero outside its support box.
 
     Along y only the box's columns are transformed (the other columns are zero and stay
-    zero), and the x input factor is applied to those columns before they are placed in the
-    full array; the full-size transform then runs along x, over contiguous rows (about twice
-    as fast as along y on one thread). ``rows_out``: only these output rows.
+    zero); along x, every output row. Each axis whose transform can run on the box's samples
+    alone (a short box: a matrix product; off the FFT path: a chirp-z as long as the box) gets
+    only those, with its input factor applied to them; otherwise the box is placed in the
+    full window (along x then over contiguous rows, about twice as fast as along y on one
+    thread). ``rows_out``: only these output rows.
     """
     rows, columns = field.support
     x_axis, y_axis = axes  # plan_axes gives x, then y
-    lines = np.zeros((field.grid.ny, columns.stop - columns.start), dtype)
-    lines[rows] = field.values[rows, columns]
-    lines = fourier_axis(lines, y_axis, field.wavelength, workers, notes)[rows_out]
-    factor_in, _, _, fft_path, _ = fourier_parts(x_axis, field.wavelength)
-    lines *= factor_in[columns].astype(dtype)[np.newaxis, :]
-    if not fft_path:  # a chirp-z transform as long as the box's columns, not the window
-        return fourier_axis(np.ascontiguousarray(lines), x_axis, field.wavelength, workers, notes,
+    wavelength = field.wavelength
+
+    def on_box_only(ax, span: slice) -> bool:
+        return span.stop - span.start <= DIRECT_MAX_INPUT or not fourier_parts(ax, wavelength)[3]
+
+    if on_box_only(y_axis, rows):
+        lines = field.values[rows, columns].astype(dtype)  # a copy
+        lines *= fourier_parts(y_axis, wavelength)[0][rows].astype(dtype)[:, np.newaxis]
+        lines = fourier_axis(lines, y_axis, wavelength, workers, notes, input_applied=True,
+                             first_index=rows.start)[rows_out]
+    else:
+        lines = np.zeros((field.grid.ny, columns.stop - columns.start), dtype)
+        lines[rows] = field.values[rows, columns]
+        lines = fourier_axis(lines, y_axis, wavelength, workers, notes)[rows_out]
+    lines *= fourier_parts(x_axis, wavelength)[0][columns].astype(dtype)[np.newaxis, :]
+    if on_box_only(x_axis, columns):
+        return fourier_axis(np.ascontiguousarray(lines), x_axis, wavelength, workers, notes,
                             input_applied=True, first_index=columns.start)
     full = np.zeros((lines.shape[0], field.grid.nx), dtype)
     full[:, columns] = lines
-    return fourier_axis(full, x_axis, field.wavelength, workers, notes, input_applied=True)
+    return fourier_axis(full, x_axis, wavelength, workers, notes, input_applied=True)
 
 
 def _fourier_to_box(field: Field, axes, dtype, workers: int, notes: list, box) -> np.ndarray:
