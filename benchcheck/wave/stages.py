@@ -56,7 +56,7 @@ from benchcheck.wave.axis_transforms import (
     split_axis,
     stage_method,
 )
-from benchcheck.wave.direct_dft import DIRECT_MAX_INPUT
+from benchcheck.wave.direct_dft import DIRECT_FFT_FRACTION, DIRECT_MAX_INPUT
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.pixel_cells import (
@@ -246,17 +246,20 @@ def _pruned_fourier(field: Field, axes, dtype, workers: int, notes: list, rows_o
 
     Along y only the box's columns are transformed (the other columns are zero and stay
     zero); along x, every output row. Each axis whose transform can run on the box's samples
-    alone (a short box: a matrix product; off the FFT path: a chirp-z as long as the box) gets
-    only those, with its input factor applied to them; otherwise the box is placed in the
-    full window (along x then over contiguous rows, about twice as fast as along y on one
-    thread). ``rows_out``: only these output rows.
+    alone gets only those, with its input factor applied to them: off the FFT path (a chirp-z
+    as long as the box, or a matrix product when it is short), and on it where the box is
+    short beside the window (a product; ``DIRECT_FFT_FRACTION``). Otherwise the box is
+    placed in the full window (along x then over contiguous rows, about twice as fast as
+    along y on one thread). ``rows_out``: only these output rows.
     """
     rows, columns = field.support
     x_axis, y_axis = axes  # plan_axes gives x, then y
     wavelength = field.wavelength
 
     def on_box_only(ax, span: slice) -> bool:
-        return span.stop - span.start <= DIRECT_MAX_INPUT or not fourier_parts(ax, wavelength)[3]
+        if not fourier_parts(ax, wavelength)[3]:  # off the FFT path: chirp-z or product, on the box
+            return True
+        return span.stop - span.start <= min(DIRECT_MAX_INPUT, DIRECT_FFT_FRACTION * ax.n_in)
 
     if on_box_only(y_axis, rows):
         lines = field.values[rows, columns].astype(dtype)  # a copy

@@ -23,7 +23,8 @@ own transform D(q) = R J₁(2π q R) / q, D(0) = πR² (the Airy integral), summ
 lags of the band's autocorrelation. Both are exact for the band kept, which leaves out at
 most 1e-6 of the power (the ring computation's share) and, on smooth spectra, far less. The
 cost is two 1-D transforms of the field and a few hundred Bessel values, against ~10⁵
-spline-interpolated ring points (about 6 ms against 35 ms on the 4f example's camera at 512).
+spline-interpolated ring points (on the 4f example's camera at 512: about 5 ms against 35 ms).
+J_{−n} = (−1)ⁿ J_n, so a negative charge uses |l| in the integrals.
 """
 
 from __future__ import annotations
