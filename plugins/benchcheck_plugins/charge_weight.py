@@ -50,9 +50,12 @@ _MAX_FREQUENCIES = 8192
 # How much farther than each axis's own cut the box reaches, so that the disc fits in it.
 _BOX_MARGIN = 1.25
 # Share of the power the disc may leave out of the box. A cut that is not round mixes
-# charges: on a pure vortex, 1 − weight came out about 0.12 times the share left out, so
-# the disc is cut far below the band's own share (which costs a few more frequencies only).
-_DISC_DROP = 1e-9
+# charges: on a pure vortex, 1 − weight came out about 0.12 times the share left out. And
+# where the disc of the weights cuts through the beam, the part left out no longer stays
+# orthogonal to the rest, so a weight moves by about the square root of its share (1e-9 left
+# out: 1.1e-6; 1e-12: 3e-8, on an LG mode cut at 1.5 waists). So the disc is cut far below
+# the band's own share, which costs a few more frequencies only (a fifth more on that mode).
+_DISC_DROP = 1e-12
 # Radii |f| closer than this (relative to the largest) are one radius: merging them moves a
 # Bessel value by at most this times ρR (≲ 10³ here), 1e-6 at worst, and it keeps the a ≠ b
 # formula away from near-equal radii, where its cancellation would lose ~log10(1/this) digits.
