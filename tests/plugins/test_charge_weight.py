@@ -137,7 +137,7 @@ def test_centroid_from_the_band_matches_the_grid_sums():
     # grid sums of the ring path find it to float rounding. The band's closed form leaves out
     # under 1e-12 of the power; weighted by x, its cross term with the rest could move the
     # centroid by up to 2 √share times the half-width (8 waists), 1.6e-5 waist, but this
-    # smooth spectrum's high end is far weaker (measured 1e-10 waist): 1e-9 waist.
+    # smooth spectrum's high end is far weaker (measured 2e-12 waist): 1e-9 waist.
     center = (0.3 * WAIST, -0.2 * WAIST)
     field = Field(laguerre_gauss(GRID, 0, 1, center=center), GRID, WAVELENGTH)
     from_band = band_centroid(field_band(field))
