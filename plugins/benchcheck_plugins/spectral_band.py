@@ -30,7 +30,10 @@ def reach_index(power: np.ndarray, n: int) -> int:
     """Highest |frequency index| at or beyond which at least half of
     ``DROPPED_SPECTRAL_POWER`` of the power lies, for one axis's power spectrum (natural
     FFT order, ``n`` samples)."""
+    total = power.sum()
+    if not total > 0:
+        return 0  # a dark field: nothing reaches out
     order = np.abs(scipy.fft.fftfreq(n, 1.0 / n)).astype(np.int64)  # |frequency index|
     by_reach = np.bincount(order, weights=power, minlength=n // 2 + 1)
-    tail = np.cumsum(by_reach[::-1])[::-1] / max(power.sum(), 1e-300)  # share at |index| >= k
+    tail = np.cumsum(by_reach[::-1])[::-1] / total  # share at |index| >= k
     return int(np.flatnonzero(tail >= DROPPED_SPECTRAL_POWER / 2)[-1])

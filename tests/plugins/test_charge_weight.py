@@ -15,7 +15,7 @@ import scipy.special
 
 from benchcheck.api import load_layout
 from benchcheck.evaluate.factory import make_evaluator
-from benchcheck.metrics import MetricContext
+from benchcheck.metrics import MetricContext, MetricUnavailable
 from benchcheck.tolerance.dofs import resolve_dofs
 from benchcheck.tolerance.samplers import Sampler
 from benchcheck.wave.field import Field
@@ -144,3 +144,15 @@ def test_centroid_from_the_band_matches_the_grid_sums():
     from_grid = metric._centroid(field)
     assert from_grid == pytest.approx(center, abs=1e-12 * WAIST)
     assert from_band == pytest.approx(center, abs=1e-9 * WAIST)
+
+
+@pytest.mark.parametrize("about", ["target", "beam"])
+def test_a_dark_field_has_no_oam_purity(about):
+    # No light, no spectrum: the metric says so instead of returning a number (common practice).
+    dark = Field(np.zeros(GRID.shape, complex), GRID, WAVELENGTH)
+    context = MetricContext(plane="work", wavelength=WAVELENGTH, field=dark, axis=(0.0, 0.0), intended_charge=1,
+                            options={"about": about})
+    with pytest.raises(MetricUnavailable, match="no power"):
+        oam_purity(context)
+    with pytest.raises(MetricUnavailable, match="no power"):
+        spiral_spectrum(context.field, (0.0, 0.0))

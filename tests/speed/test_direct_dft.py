@@ -23,17 +23,18 @@ from benchcheck.wave.direct_dft import direct_dft
     (1 / 100, 100, 0), (0.0037, 150, 0), (-0.0021, 260, 37), (1.7 / 100, 333, 512)])
 @pytest.mark.parametrize("axis", [0, 1])
 def test_matches_scipy_czt(dtype, tolerance, alpha, m_out, first_index, axis):
-    # Σ_k x_k exp(−2πi α (k + k₀) m) is the CZT with a = exp(2πi α k₀) (Rabiner, Schafer and
-    # Rader, Bell Syst. Tech. J. 48, 1249 (1969): X_m = Σ x_k a^−k w^{mk}).
+    # Σ_k x_k exp(−2πi α (k + k₀) m) is exp(−2πi α k₀ m) times the CZT X_m = Σ x_k w^{mk},
+    # w = exp(−2πi α) (Rabiner, Schafer and Rader, Bell Syst. Tech. J. 48, 1249 (1969)).
     rng = np.random.default_rng(6)
     values = (rng.standard_normal((100, 4)) + 1j * rng.standard_normal((100, 4))).astype(dtype)
     values = values if axis == 0 else np.ascontiguousarray(values.T)
     offset = np.exp(-2j * np.pi * alpha * first_index * np.arange(m_out))
-    reference = scipy.signal.CZT(100, m_out, w=np.exp(-2j * np.pi * alpha), a=1.0)(values.astype(np.complex128), axis=axis)
+    transform = scipy.signal.CZT(100, m_out, w=np.exp(-2j * np.pi * alpha), a=1.0)
+    reference = transform(values.astype(np.complex128), axis=axis)
     expected = reference * (offset[:, np.newaxis] if axis == 0 else offset[np.newaxis, :])
     result = direct_dft(values, alpha, m_out, axis, first_index)
     assert result.dtype == dtype
-    assert result.shape == (m_out, 4) if axis == 0 else (4, m_out)
+    assert result.shape == ((m_out, 4) if axis == 0 else (4, m_out))
     assert np.max(np.abs(result - expected)) <= tolerance * np.max(np.abs(expected))
 
 
