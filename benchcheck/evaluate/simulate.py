@@ -56,6 +56,7 @@ from benchcheck.evaluate.wave_path import (
 from benchcheck.layout.model import Layout
 from benchcheck.limits import check_wave_grid
 from benchcheck.optics.beam_trace import TraceResult
+from benchcheck.thread_pools import blas_on_one_thread
 from benchcheck.wave.beams import gaussian_field
 from benchcheck.wave.camera import camera_frame
 from benchcheck.wave.field import Field
@@ -115,10 +116,11 @@ class WaveSimulator:
     # -- public -------------------------------------------------------------------------------
 
     def __call__(self, realization: Realization, trace: TraceResult) -> SimulationResult:
-        if self.lazy_targets:
-            return dataclasses.replace(self.simulate(realization, trace, with_targets=False),
-                                       target_source=self._target_of)
-        return self.simulate(realization, trace)
+        with blas_on_one_thread():  # the transforms take the cores (benchcheck.thread_pools)
+            if self.lazy_targets:
+                return dataclasses.replace(self.simulate(realization, trace, with_targets=False),
+                                           target_source=self._target_of)
+            return self.simulate(realization, trace)
 
     def simulate(self, realization: Realization, trace: TraceResult, with_targets: bool = True) -> SimulationResult:
         planes: dict[str, PlaneResult] = {}

@@ -18,6 +18,7 @@ from benchcheck.errors import LayoutError, PluginError
 from benchcheck.layout.model import Layout, Spec
 from benchcheck.metrics import MetricContext, MetricOutcome, MetricRegistry, evaluate_metrics
 from benchcheck.optics.beam_trace import PlaneBeam, TraceResult, trace_realization
+from benchcheck.thread_pools import blas_on_one_thread
 from benchcheck.units import si_per_unit
 
 __all__ = ["SpecOutcome", "TrialResult", "Evaluator", "RelativeBeam", "check_spec_metrics", "resolve_spec_units"]
@@ -151,6 +152,10 @@ class Evaluator:
 
     def evaluate(self, perturbation: Mapping[str, float] | None = None, wave: bool | None = None) -> TrialResult:
         """Evaluate one perturbation (excursions in SI by dof name)."""
+        with blas_on_one_thread():  # the transforms take the cores (benchcheck.thread_pools)
+            return self._evaluate(perturbation, wave)
+
+    def _evaluate(self, perturbation: Mapping[str, float] | None, wave: bool | None) -> TrialResult:
         realization = self.realization(perturbation)
         trace = trace_realization(realization, self.plugin_matrices)
         simulation = None
