@@ -12,15 +12,13 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["DIRECT_FFT_FRACTION", "DIRECT_MAX_INPUT", "direct_dft"]
+__all__ = ["DIRECT_MAX_INPUT", "direct_dft"]
 
 #: Input samples up to which the matrix product beats the chirp-z transform (measured at 512
-#: and 1024 outputs: the product wins up to 128 inputs, and the two are even near 256).
+#: and 1024 outputs: the product wins up to 128 inputs, and the two are even near 256; with
+#: BLAS on one thread beside the FFT's two, a 43-sample box to 1024 x 1024 still took 6 ms
+#: against 13 ms, benchcheck.thread_pools).
 DIRECT_MAX_INPUT = 128
-#: Against an FFT over the whole window (zeros included), the product wins only for inputs
-#: up to this fraction of the window: a 43-sample box took the same time as the FFT at 512
-#: and 1.45 times less at 1024 (the camera stage of the 4f example).
-DIRECT_FFT_FRACTION = 1 / 16
 
 
 def _kernel(n: int, m_out: int, alpha: float, first_index: int, dtype) -> np.ndarray:
