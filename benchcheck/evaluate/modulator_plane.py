@@ -30,7 +30,7 @@ from benchcheck.layout.model import Element, Layout
 from benchcheck.limits import Limits, current_limits
 from benchcheck.evaluate.panel_hologram import PanelHologram
 from benchcheck.wave.beams import gaussian_profiles
-from benchcheck.wave.field import Field
+from benchcheck.wave.field import DeferredField, Field
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.holograms import (
     HologramOutput,
@@ -291,13 +291,14 @@ def modulator_window(
     profile_y[~on_y] = 0.0
     # separable: the power is the product of the profiles' sums
     incident_power = power_sum(profile_x) * power_sum(profile_y) * grid.sample_area
-    values = np.multiply.outer(profile_y, profile_x)
     less_one = None
     if ideal:
+        values = np.multiply.outer(profile_y, profile_x)
         design_wavelength = nominal.value("design_wavelength") or layout.wavelength
         patterns = compensated_patterns(patterns or builtin_patterns(), nominal.value("hologram") or {}, design_beam)
         values *= ideal_modulation(nominal, _pattern_coordinates(nominal, ix, iy), design_wavelength, patterns,
                                    phase_map).astype(dtype)
+        field = Field(values, grid, wavelength, real.name)
     else:
         hologram = hologram or make_panel_hologram(nominal, layout, patterns, phase_map, design_beam)
         depth = real.value("phase_depth", 1.0)
@@ -308,7 +309,10 @@ def modulator_window(
             crosstalk=real.value("crosstalk", 0.0), dead_space=real.value("dead_space", "flat"),
         )
         modulation, less_one = hologram.modulation(ix, iy, device, wavelength, dtype)
-        values *= modulation
+        # the next stage reads the profiles and the modulation only: the window's values
+        # are made if something else reads them (DeferredField)
+        field = DeferredField(lambda: _modulated(profile_y, profile_x, modulation), modulation.dtype, grid,
+                              wavelength, real.name)
     # The layout's fill factor is the datasheet's area share; the square aperture's width
     # share per axis is its square root.
     width_share = math.sqrt(min(real.value("fill_factor", 1.0), 1.0))
@@ -316,4 +320,11 @@ def modulator_window(
     cells = PixelCells(pitch=pitch, fill_factor=(1.0, 1.0) if ideal else (width_share, width_share),
                        background=SeparableBackground(profile_y, profile_x), dead_space=dead_space,
                        replicas=replicas, modulation_less_one=less_one)
-    return ModulatorWindow(Field(values, grid, wavelength, real.name), cells, incident_power)
+    return ModulatorWindow(field, cells, incident_power)
+
+
+def _modulated(profile_y: np.ndarray, profile_x: np.ndarray, modulation: np.ndarray) -> np.ndarray:
+    """The incident beam's profiles times the modulation, per pixel."""
+    values = np.multiply.outer(profile_y, profile_x)
+    values *= modulation
+    return values

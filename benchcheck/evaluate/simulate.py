@@ -59,7 +59,7 @@ from benchcheck.optics.beam_trace import TraceResult
 from benchcheck.thread_pools import blas_on_one_thread
 from benchcheck.wave.beams import gaussian_field
 from benchcheck.wave.camera import camera_frame
-from benchcheck.wave.field import Field
+from benchcheck.wave.field import Field, values_made
 from benchcheck.wave.fft_backend import apply_fft_backend_from_environment
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.holograms import builtin_patterns
@@ -131,9 +131,11 @@ class WaveSimulator:
             self._run_path(realization, trace, observation, planes, losses, notes, state)
         if with_targets:
             planes = {name: self._with_target(result) for name, result in planes.items()}
-        # One NaN or Inf sample makes the power sum NaN or Inf: one np.vdot pass per plane.
+        # One NaN or Inf sample makes the power sum NaN or Inf: one np.vdot pass per plane. A
+        # modulator window whose values no one has read is not made for this: whatever it
+        # would hold reaches the planes after it.
         faults = tuple(f"{name}: the field holds NaN or Inf" for name, result in planes.items()
-                       if not math.isfinite(result.field.power))
+                       if values_made(result.field) and not math.isfinite(result.field.power))
         return SimulationResult(planes, self.source_power, state["incident_power"], tuple(losses),
                                 state["charge"], tuple(notes), faults)
 

@@ -9,7 +9,7 @@ import numpy as np
 
 from benchcheck.wave.grid import Grid
 
-__all__ = ["Field"]
+__all__ = ["Field", "DeferredField", "values_made"]
 
 
 @dataclass(frozen=True, eq=False)
@@ -47,6 +47,11 @@ class Field:
             raise ValueError(f"field shape {self.values.shape} does not match grid {self.grid.shape}")
 
     @property
+    def dtype(self) -> np.dtype:
+        """The samples' precision (complex64 or complex128)."""
+        return self.values.dtype
+
+    @property
     def intensity(self) -> np.ndarray:
         """|E|² per sample (W/m² in the field's scaling)."""
         return (self.values.real**2 + self.values.imag**2).astype(
@@ -71,3 +76,40 @@ class Field:
             self.plane if plane is None else plane,
             self.support if values is None and grid is None else None,
         )
+
+
+class DeferredField(Field):
+    """A field whose values are made when first read.
+
+    For the modulator's window in a trial: the next stage reads only its factors (the beam's
+    profiles and the modulation), so the N x N product is made only where a metric, a target,
+    a plot or a non-Fourier stage reads it (two passes over the window and its power sum
+    saved per trial). ``make_values`` must return the same array on every call.
+    """
+
+    def __init__(self, make_values, dtype, grid: Grid, wavelength: float, plane: str = "") -> None:
+        object.__setattr__(self, "_make_values", make_values)
+        object.__setattr__(self, "_dtype", np.dtype(dtype))
+        object.__setattr__(self, "grid", grid)
+        object.__setattr__(self, "wavelength", wavelength)
+        object.__setattr__(self, "plane", plane)
+        object.__setattr__(self, "support", None)
+
+    @property
+    def dtype(self) -> np.dtype:
+        return self._dtype
+
+    def __reduce__(self):
+        return Field, (self.values, self.grid, self.wavelength, self.plane)  # pickled as made
+
+    @cached_property
+    def values(self) -> np.ndarray:  # noqa: D102 - the values, made now
+        values = self._make_values()
+        if values.shape != self.grid.shape or values.dtype != self._dtype:
+            raise ValueError(f"field {values.shape} {values.dtype} does not match {self.grid.shape} {self._dtype}")
+        return values
+
+
+def values_made(field: Field) -> bool:
+    """Whether the field's values exist yet (a DeferredField's are made when first read)."""
+    return not isinstance(field, DeferredField) or "values" in field.__dict__

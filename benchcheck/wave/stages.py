@@ -165,7 +165,7 @@ def propagate(
         When sampling would make the result meaningless (names the plane and the reason).
     """
     plane = plane or field.plane
-    dtype = np.complex128 if field.values.dtype == np.complex128 else np.complex64
+    dtype = np.complex128 if field.dtype == np.complex128 else np.complex64
     notes: list[str] = []
     if cells is not None:
         cells.check_against(field)
