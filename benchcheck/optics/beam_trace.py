@@ -8,7 +8,6 @@ computed for the beam as it arrives; the cumulative transmission is reported.
 
 from __future__ import annotations
 
-import dataclasses
 import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
@@ -113,9 +112,10 @@ class _AxisState:
     slope: float
 
 
-def _leaving(name, arm, kind, z, states, m2, wavelength, passed, transmission, arriving=None) -> PlaneBeam:
+def _leaving(name, arm, kind, z, states, m2, wavelength, passed, transmission, arriving=None,
+             zero=None) -> PlaneBeam:
     def per_axis(function):
-        return tuple(function(axis) for axis in (0, 1))
+        return (function(0), function(1))
 
     incoming = arriving or states
     return PlaneBeam(
@@ -137,6 +137,7 @@ def _leaving(name, arm, kind, z, states, m2, wavelength, passed, transmission, a
         q_in=per_axis(lambda a: incoming[a].q),
         offset_in=per_axis(lambda a: incoming[a].position),
         angle_in=per_axis(lambda a: incoming[a].slope),
+        zero_order_offset=None if zero is None else (zero[0].position, zero[1].position),
     )
 
 
@@ -144,7 +145,12 @@ def _through(state: _AxisState, matrix: np.ndarray) -> _AxisState:
     # Python floats: the same IEEE products and sums as numpy scalars, without their
     # per-operation cost (this runs twice per element per trial); the complex division stays
     # numpy's, whose rounding the vectorised trace (optics/batch_trace.py) shares.
-    (a, b, e), (c, d, f) = as_ray_matrix(matrix)[:2].tolist()
+    if type(matrix) is np.ndarray and matrix.shape == (3, 3) and matrix.dtype == float:
+        (a, b, e), (c, d, f), last = matrix.tolist()  # the common case, without a copy
+        if last != [0.0, 0.0, 1.0]:
+            raise ValueError(f"the last row of an ABCDEF matrix must be (0, 0, 1), got {last}")
+    else:
+        (a, b, e), (c, d, f) = as_ray_matrix(matrix)[:2].tolist()
     position = a * state.position + b * state.slope + e
     slope = c * state.position + d * state.slope + f
     q = complex(np.divide(a * state.q + b, c * state.q + d))  # the ABCD law, as propagate_q
@@ -204,9 +210,7 @@ def trace_realization(
             notes.append(f"{name}: the clear aperture blocks {blocked:.3%} of the arriving beam")
         after = transmission * action.passed
         plane = _leaving(name, element.arm, element.type, element.z, leaving, m2, wavelength,
-                         action.passed, after, arriving)
-        if zero_leaving:
-            plane = dataclasses.replace(plane, zero_order_offset=(zero_leaving[0].position, zero_leaving[1].position))
+                         action.passed, after, arriving, zero_leaving or None)
         planes.append(plane)
         outputs[(name, element.arm)] = (element.z, leaving, after, zero_leaving)
         for arm, (matrix_x, matrix_y, passed) in (action.arm_matrices or {}).items():
