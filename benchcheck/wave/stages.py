@@ -293,8 +293,10 @@ def _cells_fourier(field: Field, axes, cells: PixelCells, dtype, workers: int, n
                    box: tuple[slice, slice] | None = None) -> np.ndarray:
     """Fourier branch for pixel cells: array factor × aperture + flat dead-space term.
 
-    Both axes' input chirps are applied as one outer product, and each axis's output factor
-    is folded into its aperture weight (and central-period mask), so the field is read and
+    Both axes' input chirps are applied as one outer product (for a separable beam, the x
+    profile before the x transform and the y profile after it, on the columns kept: a factor
+    per row passes through a transform along the rows), and each axis's output factor is
+    folded into its aperture weight (and central-period mask), so the field is read and
     written as few times as the two transforms allow. A separable background (a Gaussian
     beam) is transformed per axis: its term costs two 1-D transforms. With ``box`` (rows,
     columns of the output) only those samples are made: after the x transform only the
@@ -312,16 +314,24 @@ def _cells_fourier(field: Field, axes, cells: PixelCells, dtype, workers: int, n
     flat = cells.dead_space == "flat"
     separable = flat and isinstance(cells.background, SeparableBackground)
     background = None
+    row_factor = None  # a factor per row, applied after the x transform (it commutes with it)
     if separable:
         # per axis: profile × input chirp, [y] and [x]
         profiles = {0: cells.background.profile_y.astype(dtype) * by_axis[0][0].astype(dtype),
                     1: cells.background.profile_x.astype(dtype) * by_axis[1][0].astype(dtype)}
-        pixel_term = np.multiply.outer(profiles[0], profiles[1])
-        if cells.modulation_less_one is not None:
-            pixel_term *= cells.modulation_less_one  # field − background = background·(exp(iψ) − 1)
+        if cells.modulation_less_one is not None and axes[0].axis == 1:
+            # field − background = background·(exp(iψ) − 1): the x profile now, the y profile
+            # on the columns the x transform keeps (one pass over the window instead of two)
+            pixel_term = cells.modulation_less_one * profiles[1][np.newaxis, :]
+            row_factor = profiles[0][:, np.newaxis]
         else:
-            pixel_term = np.multiply(field.values, np.multiply.outer(by_axis[0][0].astype(dtype),
-                                                                     by_axis[1][0].astype(dtype)), dtype=dtype) - pixel_term
+            pixel_term = np.multiply.outer(profiles[0], profiles[1])
+            if cells.modulation_less_one is not None:
+                pixel_term *= cells.modulation_less_one
+            else:
+                pixel_term = np.multiply(field.values, np.multiply.outer(by_axis[0][0].astype(dtype),
+                                                                         by_axis[1][0].astype(dtype)),
+                                         dtype=dtype) - pixel_term
     else:
         factor_in = np.multiply.outer(by_axis[0][0].astype(dtype), by_axis[1][0].astype(dtype))  # [y, x]
         pixel_term = np.multiply(field.values, factor_in, dtype=dtype)
@@ -330,6 +340,8 @@ def _cells_fourier(field: Field, axes, cells: PixelCells, dtype, workers: int, n
             pixel_term -= background
         del factor_in
     for ax, (_, _, alpha, fft_path, _) in zip(axes, parts):
+        if row_factor is not None and ax.axis == 0:
+            pixel_term *= row_factor
         pixel_term = _along(scaled_dft(pixel_term, ax.axis, alpha, ax.n_out, fft_path, workers), ax.axis, keep)
         if background is not None:
             background = _along(scaled_dft(background, ax.axis, alpha, ax.n_out, fft_path, workers), ax.axis, keep)
