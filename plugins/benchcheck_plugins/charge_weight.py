@@ -162,6 +162,16 @@ def _radial_groups(radius: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return groups, np.bincount(groups, weights=radius) / counts
 
 
+def _bessel(order: int, z: np.ndarray) -> np.ndarray:
+    """J_order(z): scipy.special.j0 and j1 for orders 0 and ±1 (a tenth of the time of the
+    general jv, same double precision), jv otherwise."""
+    if order == 0:
+        return scipy.special.j0(z)
+    if abs(order) == 1:
+        return order * scipy.special.j1(z)  # J_{−1} = −J_1
+    return scipy.special.jv(order, z)
+
+
 def _charge_power(coefficients: np.ndarray, rho: np.ndarray, order: int, outer: float) -> float:
     """C = Σ_{g,h} c̄_g c_h ∫₀ᴿ J_n(ρ_g r) J_n(ρ_h r) r dr over distinct radii ρ (n = |order|).
 
@@ -170,7 +180,7 @@ def _charge_power(coefficients: np.ndarray, rho: np.ndarray, order: int, outer: 
     two vectors."""
     n = abs(order)
     z = rho * outer
-    s, j_next = scipy.special.jv(n, z), scipy.special.jv(n + 1, z)
+    s, j_next = _bessel(n, z), _bessel(n + 1, z)
     p = rho * j_next
     cauchy = np.subtract.outer(rho * rho, rho * rho)
     np.fill_diagonal(cauchy, np.inf)  # 1/∞ = 0: the diagonal is added below
@@ -179,7 +189,7 @@ def _charge_power(coefficients: np.ndarray, rho: np.ndarray, order: int, outer: 
     vectors = np.stack([s * coefficients, p * coefficients], axis=1)
     sums = (cauchy @ vectors.view(np.float64)).view(np.complex128)
     applied = outer * (p * sums[:, 0] - s * sums[:, 1])
-    diagonal = 0.5 * outer**2 * (s * s - scipy.special.jv(n - 1, z) * j_next)
+    diagonal = 0.5 * outer**2 * (s * s - _bessel(n - 1, z) * j_next)
     applied += diagonal * coefficients
     return float(np.real(np.vdot(coefficients, applied)))
 
