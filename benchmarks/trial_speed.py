@@ -302,7 +302,9 @@ def main() -> None:
         print("  dead space; with the mode-purity spec each trial lands on the nominal camera grid, where")
         print("  the target is made once, by a chirp-z transform. Also against the transforms the trial")
         print("  itself makes, its metrics' included, recorded in one trial and replayed at the same")
-        print("  sizes and precision; zoomed DFTs of short inputs are matrix products, not counted there)")
+        print("  sizes and precision; zoomed DFTs of short inputs are matrix products, not counted there.")
+        print("  The example's own specs add OAM purity, which transforms the camera field once more: not")
+        print("  in the floor)")
         for backend in backends:
             use_fft_backend(backend)
             for grid in args.grids:
