@@ -21,7 +21,8 @@ from benchcheck.tolerance.samplers import Sampler
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
 from benchcheck_plugins import oam_purity as metric
-from benchcheck_plugins.charge_weight import _charge_power, band_centroid, charge_weight, field_band
+from benchcheck_plugins.charge_weight import (_charge_power, _charge_power_on_lattice, band_centroid, charge_weight,
+                                              field_band)
 from benchcheck_plugins.oam_purity import oam_purity
 from benchcheck_plugins.spiral_spectrum import spiral_spectrum
 from tests.plugins.test_overlap_metrics import GRID, WAIST, WAVELENGTH, laguerre_gauss, laguerre_gauss_at
@@ -55,6 +56,24 @@ def test_lommel_integrals_match_quadrature(order):
         assert _charge_power(two, rho, order, outer) == pytest.approx(expected, rel=1e-9, abs=1e-15)
 
 
+@pytest.mark.parametrize("order", [0, 1, -2])
+def test_lommel_form_on_a_square_lattice_matches_quadrature(order):
+    # Radii 2π·step·√k on a square frequency lattice (k = i² + j²): the Cauchy sums become one
+    # convolution over k. The quadratic form for random coefficients against
+    # ∫₀ᴿ |Σ_g c_g J_n(ρ_g r)|² r dr by scipy.integrate.quad at 1e-12. Tolerance 1e-9
+    # relative: the FFT convolution's rounding (about 1e-15 of the largest terms) is far below
+    # the quadrature's own.
+    step, outer = 0.31, 2.2
+    keys = np.array([0, 1, 2, 4, 5, 8, 9, 13, 25])
+    rho = 2 * math.pi * step * np.sqrt(keys)
+    rng = np.random.default_rng(7)
+    coefficients = rng.standard_normal(keys.size) + 1j * rng.standard_normal(keys.size)
+    expected = scipy.integrate.quad(lambda r: abs(coefficients @ scipy.special.jv(order, rho * r)) ** 2 * r,
+                                    0, outer, epsabs=0, epsrel=1e-12, limit=400)[0]
+    assert _charge_power_on_lattice(coefficients, keys, step, order, outer) == pytest.approx(expected, rel=1e-9)
+    assert _charge_power(coefficients, rho, order, outer) == pytest.approx(expected, rel=1e-9)
+
+
 def spiral_weights_by_quadrature(p, l, center, axis, outer, charges, angles=256):
     """C_m / Σ C about ``axis`` within ``outer`` for LG_p^l centred at ``center``: the angular
     harmonics by an FFT of the mode's own values on each ring (the trapezoidal rule, exact far
@@ -74,19 +93,21 @@ def spiral_weights_by_quadrature(p, l, center, axis, outer, charges, angles=256)
     return [radial(lambda r, m=m: ring_power(r)[m % angles]) / total for m in charges]
 
 
+@pytest.mark.parametrize("grid", [GRID, Grid((240, 256), (WAIST / 16, WAIST / 16))], ids=["square", "oblong"])
 @pytest.mark.parametrize("outer, tolerance, ring_tolerance", [(7.5 * WAIST, 1e-8, 1e-5), (1.5 * WAIST, 2e-7, 5e-5)])
-def test_charge_weights_of_a_displaced_higher_order_mode_match_quadrature(outer, tolerance, ring_tolerance):
+def test_charge_weights_of_a_displaced_higher_order_mode_match_quadrature(outer, tolerance, ring_tolerance, grid):
     # LG(2,−3) displaced from an axis that is itself off the grid's centre: the weights of
     # four charges against the quadrature above, within a disc holding the whole beam and
     # within one that cuts through it (where the disc's own transform and Lommel's integral
     # at a finite radius both matter). The closed form is exact for the band it keeps, which
     # leaves out under 1e-12 of this Gaussian-tailed spectrum: 1e-8 where the disc holds the
     # beam (measured up to 4e-10); where it cuts the beam a weight moves by about the square
-    # root of that share (measured 3e-8), so 2e-7.
+    # root of that share (measured 3e-8), so 2e-7. On a square window the frequencies form a
+    # square lattice (radii grouped by i² + j²); on an oblong one they do not (the general path).
     center, axis = (0.3 * WAIST, -0.2 * WAIST), (0.1 * WAIST, 0.05 * WAIST)
     charges = [-3, -2, 0, 1]
     expected = spiral_weights_by_quadrature(2, -3, center, axis, outer, charges)
-    field = Field(laguerre_gauss(GRID, 2, -3, center=center), GRID, WAVELENGTH)
+    field = Field(laguerre_gauss(grid, 2, -3, center=center), grid, WAVELENGTH)
     for charge, weight in zip(charges, expected):
         assert charge_weight(field_band(field), axis, charge, outer) == pytest.approx(weight, abs=tolerance)
     # The ring computation, on the same field, within its own accuracy: cubic splines at 16
