@@ -5,6 +5,10 @@ at most the time limit for it. A metric that has not finished by then is abandon
 caller records it as failed and goes on, and the helper thread, still busy with it, is
 left behind (a daemon thread, so it never keeps the process from exiting); the next
 metric gets a fresh helper. Signals (Ctrl-C) still reach the waiting main thread.
+
+The metrics of one plane go to the helper together (``run_each_with_time_limit``): one
+hand-over for all of them rather than one each (a hand-over costs 50-100 µs, as much as a
+paraxial metric many times over), each still within its own time limit.
 """
 
 from __future__ import annotations
@@ -14,10 +18,10 @@ import math
 import os
 import queue
 import threading
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from typing import Any
 
-__all__ = ["DEFAULT_METRIC_TIME_LIMIT", "MetricTimedOut", "run_with_time_limit"]
+__all__ = ["DEFAULT_METRIC_TIME_LIMIT", "MetricTimedOut", "run_with_time_limit", "run_each_with_time_limit"]
 
 #: Seconds a metric may take at one plane of one trial unless the caller says otherwise.
 DEFAULT_METRIC_TIME_LIMIT = 60.0
@@ -43,21 +47,51 @@ class _Helper:
 
     def _serve(self) -> None:
         while True:
-            future, call = self._jobs.get()
+            self._jobs.get()()
+
+    def submit(self, call: Callable[[], Any]) -> concurrent.futures.Future:
+        future: concurrent.futures.Future = concurrent.futures.Future()
+
+        def job() -> None:
             if not future.set_running_or_notify_cancel():
-                continue
+                return
             try:
                 future.set_result(call())
             except BaseException as error:  # handed back to the caller, which has the guard
                 future.set_exception(error)
 
-    def submit(self, call: Callable[[], Any]) -> concurrent.futures.Future:
-        future: concurrent.futures.Future = concurrent.futures.Future()
-        self._jobs.put((future, call))
+        self._jobs.put(job)
         return future
+
+    def submit_each(self, calls: Sequence[Callable[[], Any]], answers: queue.SimpleQueue,
+                    abandoned: threading.Event) -> None:
+        """Run ``calls`` in turn, putting (value, None) or (None, error) for each on ``answers``;
+        stop once the caller has set ``abandoned`` (it gave up waiting)."""
+
+        def job() -> None:
+            for call in calls:
+                if abandoned.is_set():
+                    return
+                answers.put(_answer(call))
+
+        self._jobs.put(job)
+
+
+def _answer(call: Callable[[], Any]) -> tuple[Any, BaseException | None]:
+    try:
+        return call(), None
+    except BaseException as error:  # handed back to the caller, which has the guard
+        return None, error
 
 
 _helpers = threading.local()
+
+
+def _helper() -> _Helper:
+    helper = getattr(_helpers, "helper", None)
+    if helper is None or not helper.usable:
+        helper = _helpers.helper = _Helper()
+    return helper
 
 
 def run_with_time_limit(call: Callable[[], Any], time_limit: float) -> Any:
@@ -68,10 +102,7 @@ def run_with_time_limit(call: Callable[[], Any], time_limit: float) -> Any:
     """
     if math.isinf(time_limit):
         return call()
-    helper = getattr(_helpers, "helper", None)
-    if helper is None or not helper.usable:
-        helper = _helpers.helper = _Helper()
-    future = helper.submit(call)
+    future = _helper().submit(call)
     try:
         return future.result(timeout=max(float(time_limit), 0.0))
     except concurrent.futures.TimeoutError:
@@ -79,3 +110,37 @@ def run_with_time_limit(call: Callable[[], Any], time_limit: float) -> Any:
             return future.result()
         _helpers.helper = None  # that thread is busy for good: the next call gets a new one
         raise MetricTimedOut(time_limit) from None
+
+
+def run_each_with_time_limit(calls: Sequence[Callable[[], Any]],
+                             time_limit: float) -> list[tuple[Any, BaseException | None]]:
+    """(value, None) or (None, error) for each call in turn, each within ``time_limit``
+    seconds of the one before finishing (error ``MetricTimedOut`` past it).
+
+    The calls run one after another on one helper thread, handed over together. One that
+    overruns is abandoned with its helper, and the calls after it go to a fresh helper.
+    With ``time_limit`` infinite the calls run on the calling thread.
+    """
+    if math.isinf(time_limit):
+        return [_answer(call) for call in calls]
+    results: list[tuple[Any, BaseException | None]] = []
+    pending = list(calls)
+    while pending:
+        answers: queue.SimpleQueue = queue.SimpleQueue()
+        abandoned = threading.Event()
+        _helper().submit_each(pending, answers, abandoned)
+        for index in range(len(pending)):
+            try:
+                results.append(answers.get(timeout=max(float(time_limit), 0.0)))
+            except queue.Empty:
+                abandoned.set()  # the helper runs none of the calls after this one
+                try:  # finished just now
+                    results.append(answers.get_nowait())
+                except queue.Empty:
+                    _helpers.helper = None  # that thread is busy for good: the rest get a new one
+                    results.append((None, MetricTimedOut(time_limit)))
+                pending = pending[index + 1:]
+                break
+        else:
+            pending = []
+    return results

@@ -10,6 +10,7 @@ plugin) in its ``MetricOutcome`` and every other metric is still computed.
 from __future__ import annotations
 
 import difflib
+import functools
 import math
 import re
 from collections.abc import Callable, Iterable, Mapping
@@ -20,7 +21,7 @@ from typing import TYPE_CHECKING, Any
 
 from benchcheck.errors import PluginError
 from benchcheck.registration import registered_objects
-from benchcheck.metric_watchdog import DEFAULT_METRIC_TIME_LIMIT, MetricTimedOut, run_with_time_limit
+from benchcheck.metric_watchdog import DEFAULT_METRIC_TIME_LIMIT, MetricTimedOut, run_each_with_time_limit
 from benchcheck.wave.field import Field
 
 if TYPE_CHECKING:
@@ -262,29 +263,29 @@ class MetricRegistry:
         return registry
 
 
-def _run_one(metric: Metric, context: MetricContext, time_limit: float = DEFAULT_METRIC_TIME_LIMIT) -> MetricOutcome:
-    """Compute one metric inside its own guard, abandoned after ``time_limit`` seconds."""
+def _outcome(metric: Metric, context: MetricContext, value: Any, error: BaseException | None,
+             time_limit: float) -> MetricOutcome:
+    """One metric's outcome from what its computation returned or raised."""
 
     def outcome(value: float | None, error: str | None) -> MetricOutcome:
         return MetricOutcome(metric.name, context.plane, value, error, metric.plugin)
 
-    if metric.needs_field and context.field is None:
-        return outcome(
-            None,
-            f"metric '{metric.name}' needs the wave simulation (only the paraxial trace ran "
-            f"at plane '{context.plane}')",
-        )
-    try:
-        value = float(run_with_time_limit(lambda: metric.compute(context), time_limit))
-    except MetricTimedOut:
+    if isinstance(error, MetricTimedOut):
         return outcome(
             None,
             f"metric '{metric.name}' from plugin '{metric.plugin}' did not finish within {time_limit:g} s at "
             f"plane '{context.plane}' (abandoned; its thread may still be running)",
         )
-    except MetricUnavailable as missing:
-        return outcome(None, f"metric '{metric.name}' is unavailable at plane '{context.plane}': {missing}")
-    except Exception as error:  # the guard: any plugin bug becomes an outcome, never a crash
+    if isinstance(error, MetricUnavailable):
+        return outcome(None, f"metric '{metric.name}' is unavailable at plane '{context.plane}': {error}")
+    if error is not None and not isinstance(error, Exception):
+        raise error  # not a metric's fault (SystemExit and the like): not ours to swallow
+    if error is None:
+        try:
+            value = float(value)
+        except Exception as not_a_number:
+            error = not_a_number
+    if error is not None:  # the guard: any plugin bug becomes an outcome, never a crash
         return outcome(
             None,
             f"metric '{metric.name}' from plugin '{metric.plugin}' failed at plane "
@@ -333,4 +334,17 @@ def evaluate_metrics(
     metrics = [registry.get(name) for name in names]
     if time_limit is None:
         time_limit = float(context.options.get(TIME_LIMIT_OPTION, DEFAULT_METRIC_TIME_LIMIT))
-    return [_run_one(metric, context, time_limit) for metric in metrics]
+    runnable = [metric for metric in metrics if not (metric.needs_field and context.field is None)]
+    # one hand-over to the helper thread for all of them (metric_watchdog.py)
+    answers = iter(run_each_with_time_limit([functools.partial(metric.compute, context) for metric in runnable],
+                                            time_limit))
+    outcomes = []
+    for metric in metrics:
+        if metric.needs_field and context.field is None:
+            outcomes.append(MetricOutcome(
+                metric.name, context.plane, None,
+                f"metric '{metric.name}' needs the wave simulation (only the paraxial trace ran "
+                f"at plane '{context.plane}')", metric.plugin))
+        else:
+            outcomes.append(_outcome(metric, context, *next(answers), time_limit))
+    return outcomes

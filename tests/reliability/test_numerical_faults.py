@@ -117,6 +117,36 @@ def test_time_limit_argument_and_a_metric_that_raises_timeout_itself():
     assert fast[0].value == 1.0
 
 
+def test_the_metrics_of_a_plane_share_one_helper_and_one_that_hangs_leaves_the_rest():
+    # The metrics of one plane go to the helper thread in one hand-over, each within its own
+    # limit (common practice for a watchdog). One that hangs is abandoned: the metric after
+    # it runs on a fresh helper, and the abandoned helper, once free, runs nothing more.
+    release = threading.Event()
+    ran: dict[str, list] = {}
+
+    def recording(name, value, wait=False):
+        def compute(context):
+            ran.setdefault(name, []).append(threading.current_thread())
+            if wait:
+                release.wait(5)
+            return value
+        return compute
+
+    registry = MetricRegistry()
+    common = dict(needs_field=False, unit="", description="test", source="none (a test fixture)")
+    registry.add(Metric("before", recording("before", 1.0), **common), "test_plugin")
+    registry.add(Metric("hangs", recording("hangs", 0.0, wait=True), **common), "test_plugin")
+    registry.add(Metric("after", recording("after", 2.0), **common), "test_plugin")
+    outcomes = evaluate_metrics(registry, ["before", "hangs", "after"], MetricContext("p", 1e-6), time_limit=0.2)
+    assert [outcome.value for outcome in outcomes] == [1.0, None, 2.0]
+    assert "'hangs' from plugin 'test_plugin' did not finish within 0.2 s" in outcomes[1].error
+    release.set()
+    time.sleep(0.1)  # the abandoned call returns; its helper must then stop, not run "after" again
+    assert {name: len(threads) for name, threads in ran.items()} == {"before": 1, "hangs": 1, "after": 1}
+    assert ran["before"][0] is ran["hangs"][0] is not threading.current_thread()
+    assert ran["after"][0] is not ran["hangs"][0]
+
+
 def test_a_stage_that_cannot_sample_is_a_fault(tmp_path, plugin_manager):
     runner = build_runner(load_layout(write_mirror_bench(tmp_path)), plugin_manager)
     runner.evaluator.needs_wave = True
