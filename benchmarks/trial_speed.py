@@ -21,8 +21,8 @@ Every number is measured side by side in one run and printed as a ratio:
   also with the OAM metric's own transform of the camera field (along x) in the floor;
 * peak traced memory of one trial in field-sized arrays;
 * a study of the 4f example as shipped: the trial loop of one worker on one core (one FFT
-  thread), a study in this process (FFTs on all cores) and one with 2 worker processes
-  (spawn), trials per second with and without start-up, the gain from the second core and
+  thread; before and after the studies, averaged), a study in this process (FFTs on all
+  cores) and one with 2 worker processes (spawn), trials per second with and without start-up, the gain from the second core and
   the time 10,000 trials would take with 2 workers;
 * the collapsed stages against a plain step-by-step reference written here: band-limited
   angular-spectrum propagation (Matsushima and Shimobaba, Opt. Express 17, 19662 (2009))
@@ -345,10 +345,14 @@ def main() -> None:
 def _print_study(folder: Path, grid: int, trials: int) -> None:
     print(f"study of the 4f example as shipped (its own specs) at {grid} x {grid}, {trials} trials")
     study_path = _layout_copy(folder, grid, "example")
-    core = _one_core_rate(study_path, max(trials // 4, 8))
+    # one core measured before and after the studies: the machine's load drifts over a run
+    core_before = _one_core_rate(study_path, max(trials // 4, 8))
     one, one_overall = _study_rates(study_path, trials, 1)
     two, two_overall = _study_rates(study_path, trials, 2)
-    print(f"  one core (a worker's trial loop, one FFT thread): {core:8.2f} trials/s")
+    core_after = _one_core_rate(study_path, max(trials // 4, 8))
+    core = (core_before + core_after) / 2
+    print(f"  one core (a worker's trial loop, one FFT thread): {core:8.2f} trials/s "
+          f"(mean of {core_before:.2f} before the studies and {core_after:.2f} after)")
     print(f"  1 worker (this process, FFTs on all cores)      : {one:8.2f} trials/s ({one_overall:.2f} with start-up)")
     print(f"  2 workers (processes, one FFT thread each)      : {two:8.2f} trials/s ({two_overall:.2f} with start-up)")
     print(f"  from the second core: 2 workers / one core {two / core:5.2f} (target >= 1.8); "
