@@ -22,8 +22,9 @@ Every number is measured side by side in one run and printed as a ratio:
 * peak traced memory of one trial in field-sized arrays;
 * a study of the 4f example as shipped: the trial loop of one worker on one core (one FFT
   thread; before and after the studies, averaged), a study in this process (FFTs on all
-  cores) and one with 2 worker processes (spawn), trials per second with and without start-up, the gain from the second core and
-  the time 10,000 trials would take with 2 workers;
+  cores) and one with 2 worker processes (spawn), trials per second with and without
+  start-up, the gain from the second core and the time 10,000 trials would take with 2
+  workers;
 * the collapsed stages against a plain step-by-step reference written here: band-limited
   angular-spectrum propagation (Matsushima and Shimobaba, Opt. Express 17, 19662 (2009))
   through every gap, each lens a phase mask exp(−iπ r²/(λf)) (thin lens, DESIGN.md §4), the
