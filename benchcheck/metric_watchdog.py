@@ -8,7 +8,8 @@ metric gets a fresh helper. Signals (Ctrl-C) still reach the waiting main thread
 
 The metrics of one plane go to the helper together (``run_each_with_time_limit``): one
 hand-over for all of them rather than one each (a hand-over costs 50-100 µs, as much as a
-paraxial metric many times over), each still within its own time limit.
+paraxial metric many times over), each still within its own time limit. A call runs with
+the caller's FFT thread count (benchcheck.thread_pools).
 """
 
 from __future__ import annotations
@@ -20,6 +21,8 @@ import queue
 import threading
 from collections.abc import Callable, Sequence
 from typing import Any
+
+from benchcheck.thread_pools import carrying_fft_threads
 
 __all__ = ["DEFAULT_METRIC_TIME_LIMIT", "MetricTimedOut", "run_with_time_limit", "run_each_with_time_limit"]
 
@@ -102,7 +105,7 @@ def run_with_time_limit(call: Callable[[], Any], time_limit: float) -> Any:
     """
     if math.isinf(time_limit):
         return call()
-    future = _helper().submit(call)
+    future = _helper().submit(carrying_fft_threads(call))
     try:
         return future.result(timeout=max(float(time_limit), 0.0))
     except concurrent.futures.TimeoutError:
@@ -128,7 +131,7 @@ def run_each_with_time_limit(calls: Sequence[Callable[[], Any]],
     while pending:
         answers: queue.SimpleQueue = queue.SimpleQueue()
         abandoned = threading.Event()
-        _helper().submit_each(pending, answers, abandoned)
+        _helper().submit_each([carrying_fft_threads(call) for call in pending], answers, abandoned)
         for index in range(len(pending)):
             try:
                 results.append(answers.get(timeout=max(float(time_limit), 0.0)))

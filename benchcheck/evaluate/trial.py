@@ -18,7 +18,7 @@ from benchcheck.errors import LayoutError, PluginError
 from benchcheck.layout.model import Layout, Spec
 from benchcheck.metrics import MetricContext, MetricOutcome, MetricRegistry, evaluate_metrics
 from benchcheck.optics.beam_trace import PlaneBeam, TraceResult, trace_realization
-from benchcheck.thread_pools import blas_on_one_thread
+from benchcheck.thread_pools import blas_on_one_thread, fft_threads
 from benchcheck.units import si_per_unit
 
 __all__ = ["SpecOutcome", "TrialResult", "Evaluator", "RelativeBeam", "check_spec_metrics", "resolve_spec_units"]
@@ -152,7 +152,9 @@ class Evaluator:
 
     def evaluate(self, perturbation: Mapping[str, float] | None = None, wave: bool | None = None) -> TrialResult:
         """Evaluate one perturbation (excursions in SI by dof name)."""
-        with blas_on_one_thread():  # the transforms take the cores (benchcheck.thread_pools)
+        # the transforms take the cores (benchcheck.thread_pools); the metrics' transforms
+        # use as many threads as the simulation's
+        with blas_on_one_thread(), fft_threads(getattr(self.simulate, "workers", None)):
             return self._evaluate(perturbation, wave)
 
     def _evaluate(self, perturbation: Mapping[str, float] | None, wave: bool | None) -> TrialResult:

@@ -40,6 +40,7 @@ import scipy.fft
 import scipy.special
 
 from benchcheck.metrics import MetricUnavailable
+from benchcheck.thread_pools import fft_workers
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
 
@@ -93,9 +94,9 @@ def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldB
     wavenumber = 2 * math.pi / field.wavelength
     if slopes[0]:
         along_rows = field.values * np.exp(-1j * wavenumber * slopes[0] * grid.x).astype(field.values.dtype)
-        along_rows = scipy.fft.fft(along_rows, axis=1, overwrite_x=True, workers=-1)
+        along_rows = scipy.fft.fft(along_rows, axis=1, overwrite_x=True, workers=fft_workers())
     else:
-        along_rows = scipy.fft.fft(field.values, axis=1, workers=-1)
+        along_rows = scipy.fft.fft(field.values, axis=1, workers=fft_workers())
     column_power = power_by_column(along_rows)
     if not column_power.sum() > 0:
         raise MetricUnavailable("the field carries no power in the window")
@@ -106,7 +107,7 @@ def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldB
     kept = along_rows[:, columns]
     if slopes[1]:
         kept *= np.exp(-1j * wavenumber * slopes[1] * grid.y).astype(kept.dtype)[:, np.newaxis]
-    spectrum = scipy.fft.fft(kept, axis=0, overwrite_x=True, workers=-1)
+    spectrum = scipy.fft.fft(kept, axis=0, overwrite_x=True, workers=fft_workers())
     reach_y = math.ceil(_BOX_MARGIN * reach_index(power_by_column(spectrum.T), grid.ny))
     if 2 * reach_y + 1 > grid.ny:
         return None

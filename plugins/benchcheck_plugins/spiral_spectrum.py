@@ -34,6 +34,7 @@ import scipy.integrate
 import scipy.ndimage
 
 from benchcheck.metrics import MetricUnavailable
+from benchcheck.thread_pools import fft_workers
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
 
@@ -79,16 +80,16 @@ def _band_limited(field: Field) -> tuple[np.ndarray, Grid, float]:
     """
     grid = field.grid
     # in the field's own precision
-    along_rows = scipy.fft.fft(field.values, axis=1, workers=-1)
+    along_rows = scipy.fft.fft(field.values, axis=1, workers=fft_workers())
     x_factor, x_reach, x_band = _band(power_by_column(along_rows), grid.nx)
     kept = along_rows[:, x_band] if x_band is not None else along_rows
-    spectrum = scipy.fft.fft(kept, axis=0, workers=-1, overwrite_x=x_band is not None)
+    spectrum = scipy.fft.fft(kept, axis=0, workers=fft_workers(), overwrite_x=x_band is not None)
     y_factor, y_reach, y_band = _band(power_by_column(spectrum.T), grid.ny)
     highest = float(np.hypot(x_reach / (grid.nx * grid.pitch[0]), y_reach / (grid.ny * grid.pitch[1])))
     if x_band is None and y_band is None:
         return np.asarray(field.values, dtype=np.complex128), grid, highest
     band = (spectrum if y_band is None else spectrum[y_band]).astype(np.complex128)
-    coarse = scipy.fft.ifft2(band, workers=-1) * (band.shape[0] * band.shape[1] / (grid.nx * grid.ny))
+    coarse = scipy.fft.ifft2(band, workers=fft_workers()) * (band.shape[0] * band.shape[1] / (grid.nx * grid.ny))
     coarse_grid = Grid(band.shape, (grid.pitch[0] * x_factor, grid.pitch[1] * y_factor), grid.center)
     return coarse, coarse_grid, highest
 

@@ -1,14 +1,19 @@
 """BLAS runs on one thread while benchcheck evaluates, so that its transforms keep the cores
-(benchcheck.thread_pools); the thread counts are read back through threadpoolctl."""
+(benchcheck.thread_pools); the thread counts are read back through threadpoolctl. The
+metrics' transforms use the trial's FFT thread count."""
 
 from __future__ import annotations
 
+import threading
+
+import pytest
 from threadpoolctl import threadpool_info
 
 from benchcheck.api import load_layout
 from benchcheck.evaluate import simulate as simulate_module
 from benchcheck.evaluate.factory import make_evaluator
-from benchcheck.thread_pools import blas_on_one_thread
+from benchcheck.thread_pools import blas_on_one_thread, fft_workers
+from benchcheck_plugins import oam_purity as oam_purity_module
 from tests.speed.conftest import scaled_relay_text
 
 
@@ -37,3 +42,27 @@ def test_a_trial_runs_its_simulation_with_blas_on_one_thread(tmp_path, monkeypat
     monkeypatch.setattr(simulate_module, "propagate", watched)
     evaluator.evaluate(wave=True)
     assert seen and all(set(threads) == {1} for threads in seen)
+
+
+@pytest.mark.parametrize("workers", [1, 2])
+def test_metrics_transform_on_as_many_threads_as_the_trial(tmp_path, monkeypatch, workers):
+    # A worker process runs its trials' transforms on one thread (the parallelism is across
+    # trials; FFT threads on top oversubscribe the cores, common practice); a study in one
+    # process uses all cores. The metrics run on a helper thread (metric_watchdog.py), and
+    # scipy.fft's default thread count is per thread: the trial's count must reach them.
+    path = tmp_path / "relay.toml"
+    path.write_text(scaled_relay_text(128))
+    evaluator = make_evaluator(load_layout(path))
+    evaluator.simulate.workers = workers
+    seen = []
+    band = oam_purity_module.field_band
+
+    def watched(*args, **kwargs):
+        seen.append((fft_workers(), threading.current_thread()))
+        return band(*args, **kwargs)
+
+    monkeypatch.setattr(oam_purity_module, "field_band", watched)
+    assert "cam.oam_purity" in evaluator.evaluate(wave=True).metrics
+    assert seen and all(count == workers for count, _ in seen)
+    assert all(thread is not threading.current_thread() for _, thread in seen)  # on the helper
+    assert fft_workers() == 1  # the caller's own default is left as it was
