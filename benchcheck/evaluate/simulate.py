@@ -59,7 +59,7 @@ from benchcheck.optics.beam_trace import TraceResult
 from benchcheck.thread_pools import blas_on_one_thread
 from benchcheck.wave.beams import gaussian_field
 from benchcheck.wave.camera import camera_frame
-from benchcheck.wave.field import Field, values_made
+from benchcheck.wave.field import BoxedField, Field, support_values, values_made
 from benchcheck.wave.fft_backend import apply_fft_backend_from_environment
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.holograms import builtin_patterns
@@ -191,7 +191,10 @@ class WaveSimulator:
                                     f"around '{name}')") from None
             arriving = result.field
             leaving_power = (state["incident_power"] if cells is not None else current.power) * stage.amplitude**2
-            if stage.amplitude != 1.0:
+            if stage.amplitude != 1.0 and isinstance(arriving, BoxedField):
+                arriving = BoxedField(arriving.box * np.float32(stage.amplitude), arriving.grid, arriving.wavelength,
+                                      arriving.plane, arriving.support)
+            elif stage.amplitude != 1.0:
                 arriving = Field(arriving.values * np.float32(stage.amplitude), arriving.grid, arriving.wavelength,
                                  arriving.plane, support=arriving.support)
             method, stage_notes, cells = result.method, result.notes, None
@@ -237,9 +240,9 @@ class WaveSimulator:
         box = None if element.type in self.plugin_masks else aperture_support(element, arriving.grid)
         if box is None:
             return arriving.replace(values=arriving.values * self._mask(element, arriving))
-        values = np.zeros(arriving.values.shape, arriving.values.dtype)  # pages outside the box stay untouched
-        values[box] = arriving.values[box] * aperture_mask(element, arriving.grid, box)
-        return Field(values, arriving.grid, arriving.wavelength, arriving.plane, support=box)
+        inside = support_values(arriving, box)
+        passed = inside * aperture_mask(element, arriving.grid, box).astype(inside.real.dtype, copy=False)
+        return BoxedField(passed, arriving.grid, arriving.wavelength, arriving.plane, box)
 
     def _mask(self, element, arriving: Field) -> np.ndarray:
         """An element's transmission on the field's grid: a plugin type's own mask, or its aperture."""

@@ -17,7 +17,7 @@ from typing import Literal
 import numpy as np
 import scipy.fft
 
-from benchcheck.wave.field import Field
+from benchcheck.wave.field import BoxedField, Field
 from benchcheck.wave.grid import Grid
 
 __all__ = [
@@ -102,14 +102,24 @@ def edge_energy(field: Field, border_fraction: float = 0.05) -> float:
     ny, nx = field.grid.shape
     by = max(1, int(np.ceil(border_fraction * ny)))
     bx = max(1, int(np.ceil(border_fraction * nx)))
-    values = field.values
     total = field.power / field.grid.sample_area
     if not total > 0.0:
         return 0.0
     if 2 * by >= ny or 2 * bx >= nx:
         return 1.0
-    band = (_band_power(values[:by]) + _band_power(values[ny - by:])
-            + _band_power(values[by:ny - by, :bx]) + _band_power(values[by:ny - by, nx - bx:]))
+    if isinstance(field, BoxedField):  # zero outside its box: the band's part of the box
+        (rows, columns), values = field.support, field.box
+
+        def inside(index: int, start: int, length: int) -> int:  # a window index on the box
+            return min(max(index - start, 0), length)
+
+        top, bottom = inside(by, rows.start, values.shape[0]), inside(ny - by, rows.start, values.shape[0])
+        left, right = inside(bx, columns.start, values.shape[1]), inside(nx - bx, columns.start, values.shape[1])
+    else:
+        values = field.values
+        top, bottom, left, right = by, ny - by, bx, nx - bx
+    band = (_band_power(values[:top]) + _band_power(values[bottom:])
+            + _band_power(values[top:bottom, :left]) + _band_power(values[top:bottom, right:]))
     return min(1.0, max(0.0, band / total))
 
 

@@ -56,7 +56,7 @@ from benchcheck.wave.axis_transforms import (
     split_axis,
     stage_method,
 )
-from benchcheck.wave.field import Field
+from benchcheck.wave.field import BoxedField, Field, support_values
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.pixel_cells import (
     PixelCells,
@@ -190,14 +190,12 @@ def propagate(
 
 def _boxed(box_values: np.ndarray, grid: Grid, wavelength: float, plane: str, box) -> Field:
     """A field on ``grid`` that is ``box_values`` on ``box`` and zero elsewhere (its support)."""
-    values = np.zeros(grid.shape, box_values.dtype)  # pages outside the box stay untouched
-    values[box] = box_values
-    return Field(values, grid, wavelength, plane, support=box)
+    return BoxedField(box_values, grid, wavelength, plane, box)
 
 
 def _propagate_plain(field: Field, matrices, output_grid, plane: str, workers: int, check_input: bool,
                      output_box=None) -> StageResult:
-    dtype = np.complex128 if field.values.dtype == np.complex128 else np.complex64
+    dtype = np.complex128 if field.dtype == np.complex128 else np.complex64
     notes: list[str] = []
     axes = plan_axes(field.grid, matrices, field.wavelength, output_grid)
     if all(ax.branch == "identity" for ax in axes):
@@ -207,8 +205,6 @@ def _propagate_plain(field: Field, matrices, output_grid, plane: str, workers: i
         found = check_window(field, field.plane or plane)
         _raise_refusals(found, plane)
         notes.extend(note.text() for note in found)
-    work = field.values.astype(dtype, copy=False)
-    owned = work is not field.values  # the input field is never changed: the first axis copies it
     both_fourier = all(ax.branch == "fourier" for ax in axes)
     try:
         if output_box is not None and both_fourier:
@@ -218,9 +214,11 @@ def _propagate_plain(field: Field, matrices, output_grid, plane: str, workers: i
                                tuple(notes))
         if field.support is not None and both_fourier:
             work = _pruned_fourier(field, axes, dtype, workers, notes)  # copies the box in ``dtype``
-            axes_left = []
+            axes_left, owned = [], True
         else:
+            work = field.values.astype(dtype, copy=False)
             axes_left = axes
+            owned = work is not field.values  # the input field is never changed: the first axis copies it
         for ax in axes_left:
             if ax.branch == "fourier":
                 work = fourier_axis(work, ax, field.wavelength, workers, notes, owned)
@@ -260,13 +258,13 @@ def _pruned_fourier(field: Field, axes, dtype, workers: int, notes: list, rows_o
         return not fourier_parts(ax, wavelength)[3]  # off the FFT path: chirp-z or product, on the box
 
     if on_box_only(y_axis):
-        lines = field.values[rows, columns].astype(dtype)  # a copy
+        lines = support_values(field).astype(dtype)  # a copy
         lines *= fourier_parts(y_axis, wavelength)[0][rows].astype(dtype)[:, np.newaxis]
         lines = fourier_axis(lines, y_axis, wavelength, workers, notes, input_applied=True,
                              first_index=rows.start)[rows_out]
     else:
         lines = np.zeros((field.grid.ny, columns.stop - columns.start), dtype)
-        lines[rows] = field.values[rows, columns]
+        lines[rows] = support_values(field)
         lines = fourier_axis(lines, y_axis, wavelength, workers, notes)[rows_out]
     lines *= fourier_parts(x_axis, wavelength)[0][columns].astype(dtype)[np.newaxis, :]
     if on_box_only(x_axis):
