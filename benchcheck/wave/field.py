@@ -78,6 +78,12 @@ class Field:
         )
 
 
+def _set_attributes(field: Field, **attributes) -> None:
+    """Set the attributes of a frozen field being made (its values are made later)."""
+    for name, value in attributes.items():
+        object.__setattr__(field, name, value)
+
+
 class DeferredField(Field):
     """A field whose values are made when first read.
 
@@ -88,12 +94,8 @@ class DeferredField(Field):
     """
 
     def __init__(self, make_values, dtype, grid: Grid, wavelength: float, plane: str = "") -> None:
-        object.__setattr__(self, "_make_values", make_values)
-        object.__setattr__(self, "_dtype", np.dtype(dtype))
-        object.__setattr__(self, "grid", grid)
-        object.__setattr__(self, "wavelength", wavelength)
-        object.__setattr__(self, "plane", plane)
-        object.__setattr__(self, "support", None)
+        _set_attributes(self, _make_values=make_values, _dtype=np.dtype(dtype), grid=grid, wavelength=wavelength,
+                        plane=plane, support=None)
 
     @property
     def dtype(self) -> np.dtype:
@@ -124,15 +126,12 @@ class BoxedField(Field):
     where the allocator hands back reused memory) is made only if something reads ``values``.
     """
 
-    def __init__(self, box: np.ndarray, grid: Grid, wavelength: float, plane: str, support: tuple[slice, slice]) -> None:
+    def __init__(self, box: np.ndarray, grid: Grid, wavelength: float, plane: str,
+                 support: tuple[slice, slice]) -> None:
         rows, columns = support
         if box.shape != (rows.stop - rows.start, columns.stop - columns.start):
             raise ValueError(f"box {box.shape} does not match its support {support}")
-        object.__setattr__(self, "box", box)
-        object.__setattr__(self, "grid", grid)
-        object.__setattr__(self, "wavelength", wavelength)
-        object.__setattr__(self, "plane", plane)
-        object.__setattr__(self, "support", support)
+        _set_attributes(self, box=box, grid=grid, wavelength=wavelength, plane=plane, support=support)
 
     @property
     def dtype(self) -> np.dtype:
