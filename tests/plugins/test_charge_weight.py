@@ -21,8 +21,8 @@ from benchcheck.tolerance.samplers import Sampler
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
 from benchcheck_plugins import oam_purity as metric
-from benchcheck_plugins.charge_weight import (_charge_power, _charge_power_on_lattice, band_centroid, charge_weight,
-                                              field_band)
+from benchcheck_plugins.charge_weight import (_bessel_neighbours, _charge_power, _charge_power_on_lattice,
+                                              band_centroid, charge_weight, field_band)
 from benchcheck_plugins.oam_purity import oam_purity
 from benchcheck_plugins.spiral_spectrum import spiral_spectrum
 from tests.plugins.test_overlap_metrics import GRID, WAIST, WAVELENGTH, laguerre_gauss, laguerre_gauss_at
@@ -177,3 +177,13 @@ def test_a_dark_field_has_no_oam_purity(about):
         oam_purity(context)
     with pytest.raises(MetricUnavailable, match="no power"):
         spiral_spectrum(context.field, (0.0, 0.0))
+
+
+@pytest.mark.parametrize("order", [0, 1, 3])
+def test_bessel_neighbours_match_the_general_bessel_function(order):
+    # J₂ by upward recurrence from J₀ and J₁ where z ≥ 2 (NIST DLMF 10.6.1): against
+    # scipy.special.jv, across zero, the switch at z = 2 and far past the order. 2e-15:
+    # a few roundings of values of order one.
+    z = np.concatenate([[0.0, 1e-8, 1.999999, 2.0, 2.000001], np.linspace(0.01, 80.0, 4001)])
+    for got, n in zip(_bessel_neighbours(order, z), (order - 1, order, order + 1)):
+        assert np.max(np.abs(got - scipy.special.jv(n, z))) < 2e-15
