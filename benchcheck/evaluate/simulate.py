@@ -102,6 +102,7 @@ class WaveSimulator:
     _nominal_grids: dict = field(default_factory=dict, init=False, repr=False)
     _upstream: UpstreamPlanes = field(default_factory=UpstreamPlanes, init=False, repr=False)
     _phase_map: np.ndarray | None = field(default=None, init=False, repr=False)
+    _stages: dict = field(default_factory=dict, init=False, repr=False)
 
     def __post_init__(self) -> None:
         apply_fft_backend_from_environment()  # BENCHCHECK_FFT_BACKEND=pyfftw: optional faster FFT
@@ -180,7 +181,7 @@ class WaveSimulator:
             method, stage_notes = "start", tuple(start_notes(realization, trace, name, arriving, cells))
             leaving_power = None
         else:
-            stage = stage_between(realization, trace, masks[index - 1], name, self.plugin_matrices)
+            stage = self._stage(realization, trace, masks[index - 1], name)
             box = self._box_only(element, current, stage, cells)
             try:
                 result = propagate(current, stage.matrix_x, stage.matrix_y, plane=name, cells=cells,
@@ -214,6 +215,16 @@ class WaveSimulator:
         if _is_nominal(realization):
             self._nominal_grids[name] = arriving.grid
         return KeptPlane(result, cells, loss, tuple(changed.items()))
+
+    def _stage(self, realization: Realization, trace: TraceResult, start: str, end: str):
+        """``stage_between``, worked out once per trial: the modulator's replica count and the
+        stage after it both need the stage from the modulator (kept for the latest trial)."""
+        key = (start, end)
+        kept = self._stages.get(key)
+        if kept is None or kept[0] is not realization or kept[1] is not trace:
+            kept = (realization, trace, stage_between(realization, trace, start, end, self.plugin_matrices))
+            self._stages[key] = kept
+        return kept[2]
 
     def _target_grid(self, name: str, realization: Realization) -> Grid | None:
         """The nominal grid of a target plane for a study's trial there, else None (the natural grid)."""
@@ -302,7 +313,7 @@ class WaveSimulator:
         if index + 1 >= len(masks):
             return 0
         following = realization.element(masks[index + 1])
-        stage = stage_between(realization, trace, name, following.name, self.plugin_matrices)
+        stage = self._stage(realization, trace, name, following.name)
         pitch = min(realization.element(name).value("pixel_pitch"))
         half_period = realization.wavelength * abs(stage.matrix_x[0, 1]) / (2 * pitch)
         if following.type == "aperture":
