@@ -14,7 +14,6 @@ the caller's FFT thread count (benchcheck.thread_pools).
 
 from __future__ import annotations
 
-import concurrent.futures
 import math
 import os
 import queue
@@ -51,20 +50,6 @@ class _Helper:
     def _serve(self) -> None:
         while True:
             self._jobs.get()()
-
-    def submit(self, call: Callable[[], Any]) -> concurrent.futures.Future:
-        future: concurrent.futures.Future = concurrent.futures.Future()
-
-        def job() -> None:
-            if not future.set_running_or_notify_cancel():
-                return
-            try:
-                future.set_result(call())
-            except BaseException as error:  # handed back to the caller, which has the guard
-                future.set_exception(error)
-
-        self._jobs.put(job)
-        return future
 
     def submit_each(self, calls: Sequence[Callable[[], Any]], answers: queue.SimpleQueue,
                     abandoned: threading.Event) -> None:
@@ -103,16 +88,10 @@ def run_with_time_limit(call: Callable[[], Any], time_limit: float) -> Any:
     An exception raised by ``call`` is raised here. With ``time_limit`` infinite the call
     runs on the calling thread.
     """
-    if math.isinf(time_limit):
-        return call()
-    future = _helper().submit(carrying_fft_threads(call))
-    try:
-        return future.result(timeout=max(float(time_limit), 0.0))
-    except concurrent.futures.TimeoutError:
-        if future.done():  # finished just now, or the metric itself raised TimeoutError
-            return future.result()
-        _helpers.helper = None  # that thread is busy for good: the next call gets a new one
-        raise MetricTimedOut(time_limit) from None
+    value, error = run_each_with_time_limit([call], time_limit)[0]
+    if error is not None:
+        raise error
+    return value
 
 
 def run_each_with_time_limit(calls: Sequence[Callable[[], Any]],
