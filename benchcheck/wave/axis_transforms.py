@@ -15,6 +15,7 @@ import numpy as np
 import scipy.fft
 
 from benchcheck.errors import SamplingError
+from benchcheck.thread_pools import threads_for
 from benchcheck.wave.chirp_z import chirp_z
 from benchcheck.wave.direct_dft import DIRECT_MAX_INPUT, direct_dft
 from benchcheck.wave.grid import Grid
@@ -159,6 +160,7 @@ def scaled_dft(work: np.ndarray, axis: int, alpha: float, m_out: int, fft_path: 
                           axis)
         return out
     if fft_path:
+        workers = threads_for(work.nbytes, workers)
         if alpha > 0:
             out = scipy.fft.fft(work, axis=axis, overwrite_x=True, workers=workers)
         else:
@@ -244,6 +246,7 @@ def split_axis(work, ax: AxisPlan, wavelength: float, workers: int, notes: list,
     if ax.natural and distance == 0.0:
         out = work if owned else work.copy()
     else:
+        workers = threads_for(work.nbytes, workers)
         spectrum = scipy.fft.fft(work, axis=ax.axis, overwrite_x=owned, workers=workers)
         if distance != 0.0:
             frequency = scipy.fft.fftfreq(n, p)

@@ -17,6 +17,8 @@ import functools
 import numpy as np
 import scipy.fft
 
+from benchcheck.thread_pools import threads_for
+
 __all__ = ["chirp_z"]
 
 
@@ -65,6 +67,7 @@ def chirp_z(values: np.ndarray, alpha: float, m_out: int, axis: int, workers: in
     shape = [1] * values.ndim
     shape[axis] = -1
     weighted = values.astype(dtype, copy=False) * input_chirp.reshape(shape)
+    workers = threads_for(weighted.nbytes, workers)
     transformed = scipy.fft.fft(weighted, n=length, axis=axis, overwrite_x=True, workers=workers)
     transformed *= spectrum.reshape(shape)
     convolved = scipy.fft.ifft(transformed, axis=axis, overwrite_x=True, workers=workers)

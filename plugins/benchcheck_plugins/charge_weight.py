@@ -94,9 +94,9 @@ def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldB
     wavenumber = 2 * math.pi / field.wavelength
     if slopes[0]:
         along_rows = field.values * np.exp(-1j * wavenumber * slopes[0] * grid.x).astype(field.values.dtype)
-        along_rows = scipy.fft.fft(along_rows, axis=1, overwrite_x=True, workers=fft_workers())
+        along_rows = scipy.fft.fft(along_rows, axis=1, overwrite_x=True, workers=fft_workers(along_rows.nbytes))
     else:
-        along_rows = scipy.fft.fft(field.values, axis=1, workers=fft_workers())
+        along_rows = scipy.fft.fft(field.values, axis=1, workers=fft_workers(field.values.nbytes))
     column_power = power_by_column(along_rows)
     if not column_power.sum() > 0:
         raise MetricUnavailable("the field carries no power in the window")
@@ -107,7 +107,7 @@ def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldB
     kept = along_rows[:, columns]
     if slopes[1]:
         kept *= np.exp(-1j * wavenumber * slopes[1] * grid.y).astype(kept.dtype)[:, np.newaxis]
-    spectrum = scipy.fft.fft(kept, axis=0, overwrite_x=True, workers=fft_workers())
+    spectrum = scipy.fft.fft(kept, axis=0, overwrite_x=True, workers=fft_workers(kept.nbytes))
     reach_y = math.ceil(_BOX_MARGIN * reach_index(power_by_column(spectrum.T), grid.ny))
     if 2 * reach_y + 1 > grid.ny:
         return None
@@ -143,8 +143,8 @@ def band_centroid(band: FieldBand) -> tuple[float, float]:
                                               (grid.ny, grid.pitch[1], grid.y[0]))):
         lines = band.box if axis == 0 else band.box.T  # the transform runs along each line
         length = scipy.fft.next_fast_len(2 * lines.shape[1] - 1)
-        transformed = scipy.fft.fft(lines, n=length, axis=1)
-        correlation = scipy.fft.ifft((transformed.real**2 + transformed.imag**2).sum(axis=0))
+        transformed = scipy.fft.fft(lines, n=length, axis=1, workers=fft_workers(lines.nbytes))
+        correlation = scipy.fft.ifft((transformed.real**2 + transformed.imag**2).sum(axis=0), workers=1)
         lag = scipy.fft.fftfreq(length, 1.0 / length)  # R[q] sits at q mod length
         reach = lines.shape[1] - 1
         near = (np.abs(lag) <= reach) & (lag != 0)
@@ -221,13 +221,14 @@ def _charge_power_on_lattice(coefficients: np.ndarray, keys: np.ndarray, step: f
     length = scipy.fft.next_fast_len(2 * span + 1)
     difference = np.arange(-span, span + 1, dtype=np.float64)
     difference[span] = np.inf  # 1/∞ = 0: the diagonal is added by the caller
-    kernel = scipy.fft.fft(1.0 / difference, length)  # 1/d at index d + K
+    kernel = scipy.fft.fft(1.0 / difference, length, workers=1)  # 1/d at index d + K; one line
 
     def cauchy_sums(vectors: np.ndarray) -> np.ndarray:
         laid_out = np.zeros((vectors.shape[1], length), np.complex128)
         laid_out[:, keys] = vectors.T
-        convolved = scipy.fft.ifft(scipy.fft.fft(laid_out, axis=1, overwrite_x=True) * kernel, axis=1,
-                                   overwrite_x=True)
+        workers = fft_workers(laid_out.nbytes)
+        convolved = scipy.fft.ifft(scipy.fft.fft(laid_out, axis=1, overwrite_x=True, workers=workers) * kernel,
+                                   axis=1, overwrite_x=True, workers=workers)
         return convolved[:, keys + span].T / (2 * math.pi * step) ** 2
 
     return _lommel_form(coefficients, rho, order, outer, cauchy_sums)
@@ -258,12 +259,14 @@ def _disc_power(box: np.ndarray, frequency_step: tuple[float, float], reach: flo
     (the lags summed by i² + j² first)."""
     shape = tuple(scipy.fft.next_fast_len(2 * size - 1) for size in box.shape)
     # zero-padded along x on the box's rows only, then along y
-    padded = scipy.fft.fft(scipy.fft.fft(box, n=shape[1], axis=1), n=shape[0], axis=0, overwrite_x=True)
+    workers = fft_workers(box.itemsize * shape[0] * shape[1])  # by the padded size
+    padded = scipy.fft.fft(scipy.fft.fft(box, n=shape[1], axis=1, workers=workers), n=shape[0], axis=0,
+                           overwrite_x=True, workers=workers)
     spectrum = padded.real**2 + padded.imag**2
     # only Re A is summed: the transform of the even part of |transform|², real and even, so
     # half of it by irfft2
     spectrum += np.roll(spectrum[::-1, ::-1], 1, axis=(0, 1))
-    lags = scipy.fft.irfft2(spectrum[:, : shape[1] // 2 + 1], s=shape) / 2
+    lags = scipy.fft.irfft2(spectrum[:, : shape[1] // 2 + 1], s=shape, workers=workers) / 2
     iy = scipy.fft.fftfreq(shape[0], 1.0 / shape[0])[:, np.newaxis]  # lag indices, as floats
     ix = scipy.fft.fftfreq(shape[1], 1.0 / shape[1])[np.newaxis, :]
     # A(−q) = conj A(q) and D is even: one half-plane of lags, counted twice

@@ -80,16 +80,17 @@ def _band_limited(field: Field) -> tuple[np.ndarray, Grid, float]:
     """
     grid = field.grid
     # in the field's own precision
-    along_rows = scipy.fft.fft(field.values, axis=1, workers=fft_workers())
+    along_rows = scipy.fft.fft(field.values, axis=1, workers=fft_workers(field.values.nbytes))
     x_factor, x_reach, x_band = _band(power_by_column(along_rows), grid.nx)
     kept = along_rows[:, x_band] if x_band is not None else along_rows
-    spectrum = scipy.fft.fft(kept, axis=0, workers=fft_workers(), overwrite_x=x_band is not None)
+    spectrum = scipy.fft.fft(kept, axis=0, workers=fft_workers(kept.nbytes), overwrite_x=x_band is not None)
     y_factor, y_reach, y_band = _band(power_by_column(spectrum.T), grid.ny)
     highest = float(np.hypot(x_reach / (grid.nx * grid.pitch[0]), y_reach / (grid.ny * grid.pitch[1])))
     if x_band is None and y_band is None:
         return np.asarray(field.values, dtype=np.complex128), grid, highest
     band = (spectrum if y_band is None else spectrum[y_band]).astype(np.complex128)
-    coarse = scipy.fft.ifft2(band, workers=fft_workers()) * (band.shape[0] * band.shape[1] / (grid.nx * grid.ny))
+    coarse = scipy.fft.ifft2(band, workers=fft_workers(band.nbytes))
+    coarse *= band.shape[0] * band.shape[1] / (grid.nx * grid.ny)
     coarse_grid = Grid(band.shape, (grid.pitch[0] * x_factor, grid.pitch[1] * y_factor), grid.center)
     return coarse, coarse_grid, highest
 
@@ -209,7 +210,8 @@ def spiral_spectrum(
     # Fractional array indices into the crop: sample k sits at x[first_col] + k * pitch.
     coordinates = np.stack([(ring_y - y[first_row]) / pitch_y, (ring_x - x[first_col]) / pitch_x])
     on_rings = scipy.ndimage.map_coordinates(crop, coordinates, order=3, mode="nearest")
-    harmonics = scipy.fft.fft(on_rings, axis=1) / angle_count  # a_l(r) for each ring
+    # a_l(r) for each ring
+    harmonics = scipy.fft.fft(on_rings, axis=1, workers=fft_workers(on_rings.nbytes)) / angle_count
     ring_power = harmonics.real**2 + harmonics.imag**2
     weights = scipy.integrate.simpson(ring_power * radii[:, np.newaxis], x=radii, axis=0)
     total = weights.sum()

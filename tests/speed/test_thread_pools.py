@@ -6,13 +6,15 @@ from __future__ import annotations
 
 import threading
 
+import numpy as np
 import pytest
+import scipy.fft
 from threadpoolctl import threadpool_info
 
 from benchcheck.api import load_layout
 from benchcheck.evaluate import simulate as simulate_module
 from benchcheck.evaluate.factory import make_evaluator
-from benchcheck.thread_pools import blas_on_one_thread, fft_workers
+from benchcheck.thread_pools import SMALL_TRANSFORM_BYTES, blas_on_one_thread, fft_workers, threads_for
 from benchcheck_plugins import oam_purity as oam_purity_module
 from tests.speed.conftest import scaled_relay_text
 
@@ -66,3 +68,15 @@ def test_metrics_transform_on_as_many_threads_as_the_trial(tmp_path, monkeypatch
     assert seen and all(count == workers for count, _ in seen)
     assert all(thread is not threading.current_thread() for _, thread in seen)  # on the helper
     assert fft_workers() == 1  # the caller's own default is left as it was
+
+
+def test_small_transforms_run_on_one_thread_and_large_ones_on_the_trials_count():
+    # Splitting a transform of a few dozen lines over threads costs more than it saves
+    # (measured, thread_pools.SMALL_TRANSFORM_BYTES); a window-sized one keeps the count.
+    small = np.zeros((512, 43), np.complex64).nbytes
+    window = np.zeros((512, 512), np.complex64).nbytes
+    assert threads_for(small, 2) == 1 and threads_for(small, -1) == 1
+    assert threads_for(window, 2) == 2 and threads_for(window, -1) == -1
+    assert threads_for(SMALL_TRANSFORM_BYTES, 2) == 1 and threads_for(SMALL_TRANSFORM_BYTES + 1, 2) == 2
+    with scipy.fft.set_workers(2):
+        assert fft_workers() == 2 and fft_workers(window) == 2 and fft_workers(small) == 1
