@@ -59,7 +59,7 @@ from benchcheck.optics.beam_trace import TraceResult
 from benchcheck.thread_pools import blas_on_one_thread
 from benchcheck.wave.beams import gaussian_field
 from benchcheck.wave.camera import camera_frame
-from benchcheck.wave.field import BoxedField, Field, support_values, values_made
+from benchcheck.wave.field import BoxedField, DeferredField, Field, RowTransformField, support_values, values_made
 from benchcheck.wave.fft_backend import apply_fft_backend_from_environment
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.holograms import builtin_patterns
@@ -134,9 +134,10 @@ class WaveSimulator:
             planes = {name: self._with_target(result) for name, result in planes.items()}
         # One NaN or Inf sample makes the power sum NaN or Inf: one np.vdot pass per plane. A
         # modulator window whose values no one has read is not made for this: whatever it
-        # would hold reaches the planes after it.
+        # would hold reaches the planes after it. Boxed and row-transform fields sum what they hold.
         faults = tuple(f"{name}: the field holds NaN or Inf" for name, result in planes.items()
-                       if values_made(result.field) and not math.isfinite(result.field.power))
+                       if (values_made(result.field) or not isinstance(result.field, DeferredField))
+                       and not math.isfinite(result.field.power))
         return SimulationResult(planes, self.source_power, state["incident_power"], tuple(losses),
                                 state["charge"], tuple(notes), faults)
 
@@ -195,6 +196,9 @@ class WaveSimulator:
             if stage.amplitude != 1.0 and isinstance(arriving, BoxedField):
                 arriving = BoxedField(arriving.box * np.float32(stage.amplitude), arriving.grid, arriving.wavelength,
                                       arriving.plane, arriving.support)
+            elif stage.amplitude != 1.0 and isinstance(arriving, RowTransformField):
+                arriving = RowTransformField(arriving.lines * np.float32(stage.amplitude), arriving.first, arriving.sign,
+                                             arriving.factor, arriving.grid, arriving.wavelength, arriving.plane)
             elif stage.amplitude != 1.0:
                 arriving = Field(arriving.values * np.float32(stage.amplitude), arriving.grid, arriving.wavelength,
                                  arriving.plane, support=arriving.support)

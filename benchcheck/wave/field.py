@@ -9,7 +9,11 @@ import numpy as np
 
 from benchcheck.wave.grid import Grid
 
-__all__ = ["Field", "DeferredField", "BoxedField", "values_made", "support_values"]
+__all__ = ["Field", "DeferredField", "BoxedField", "RowTransformField", "values_made", "support_values"]
+
+# |output factor| may vary by this much (relative) across a row transform: a chirp times a
+# constant varies by float32 rounding alone
+_ONE_MODULUS = 1e-5
 
 
 @dataclass(frozen=True, eq=False)
@@ -113,9 +117,9 @@ class DeferredField(Field):
 
 
 def values_made(field: Field) -> bool:
-    """Whether the field's values exist yet (a DeferredField's and a BoxedField's are made
-    when first read)."""
-    return not isinstance(field, (DeferredField, BoxedField)) or "values" in field.__dict__
+    """Whether the field's values exist yet (a DeferredField's, a BoxedField's and a
+    RowTransformField's are made when first read)."""
+    return not isinstance(field, (DeferredField, BoxedField, RowTransformField)) or "values" in field.__dict__
 
 
 class BoxedField(Field):
@@ -160,3 +164,69 @@ def support_values(field: Field, box: tuple[slice, slice] | None = None) -> np.n
     if isinstance(field, BoxedField) and box == field.support:
         return field.box
     return field.values[box]
+
+
+class RowTransformField(Field):
+    """A field whose every row is a DFT along x of a few nonzero samples, held as those samples.
+
+        values[r, m] = factor[m] · Σ_j lines[r, j] exp(−2πi · sign · (first + j) · m / N)
+
+    (``sign`` +1: scipy.fft.fft, −1: ifft with norm="forward"; N = grid.nx). For the field a
+    Fourier stage carries from a small iris to the next plane, in a study: its power, its edge
+    bands and the transforms of OAM purity follow from ``lines`` alone (Parseval and the DFT
+    of ``factor``), so the window's transform along x is made only if something reads
+    ``values``. ``factor`` must have one modulus (a chirp times a constant: checked).
+    """
+
+    def __init__(self, lines: np.ndarray, first: int, sign: int, factor: np.ndarray, grid: Grid,
+                 wavelength: float, plane: str) -> None:
+        if lines.shape[0] != grid.ny or not 0 <= first <= grid.nx - lines.shape[1] or factor.shape != (grid.nx,):
+            raise ValueError(f"lines {lines.shape} from column {first} and factor {factor.shape} do not fit {grid.shape}")
+        modulus = np.abs(factor.astype(np.complex128))
+        if modulus.max() - modulus.min() > _ONE_MODULUS * modulus.max():
+            raise ValueError("the output factor of a row transform must have one modulus")
+        _set_attributes(self, lines=lines, first=int(first), sign=int(sign), factor=factor,
+                        factor_power=float(np.mean(modulus**2)), grid=grid, wavelength=wavelength,
+                        plane=plane, support=None)
+
+    @property
+    def dtype(self) -> np.dtype:
+        return self.lines.dtype
+
+    def __reduce__(self):
+        return Field, (self.values, self.grid, self.wavelength, self.plane)  # pickled as made
+
+    @cached_property
+    def values(self) -> np.ndarray:  # noqa: D102 - the window, transformed now
+        import scipy.fft
+
+        from benchcheck.thread_pools import fft_workers
+
+        window = np.zeros(self.grid.shape, self.lines.dtype)
+        window[:, self.first:self.first + self.lines.shape[1]] = self.lines
+        workers = fft_workers(window.nbytes)
+        if self.sign > 0:
+            window = scipy.fft.fft(window, axis=1, overwrite_x=True, workers=workers)
+        else:
+            window = scipy.fft.ifft(window, axis=1, norm="forward", overwrite_x=True, workers=workers)
+        window *= self.factor[np.newaxis, :]
+        return window
+
+    def rows_power(self, rows: slice = slice(None)) -> float:
+        """Σ|values|² over ``rows`` (no sample area), by Parseval along each row."""
+        from benchcheck.wave.sums import power_sum
+
+        return self.grid.nx * self.factor_power * power_sum(self.lines[rows])
+
+    def columns(self, indices: np.ndarray, rows: slice = slice(None)) -> np.ndarray:
+        """``values[rows][:, indices]`` (complex128), without the window: one matrix product
+        with the DFT's columns (phases from exact integer products modulo N)."""
+        n = self.grid.nx
+        indices = np.asarray(indices, np.int64) % n
+        held = np.arange(self.first, self.first + self.lines.shape[1], dtype=np.int64)
+        kernel = np.exp((-2j * np.pi * self.sign / n) * (np.multiply.outer(held, indices) % n))
+        return (self.lines[rows].astype(np.complex128) @ kernel) * self.factor[indices].astype(np.complex128)
+
+    @cached_property
+    def power(self) -> float:  # noqa: D102 - from the lines alone
+        return self.rows_power() * self.grid.sample_area

@@ -17,7 +17,7 @@ from typing import Literal
 import numpy as np
 import scipy.fft
 
-from benchcheck.wave.field import BoxedField, Field
+from benchcheck.wave.field import BoxedField, Field, RowTransformField
 from benchcheck.wave.grid import Grid
 
 __all__ = [
@@ -107,6 +107,10 @@ def edge_energy(field: Field, border_fraction: float = 0.05) -> float:
         return 0.0
     if 2 * by >= ny or 2 * bx >= nx:
         return 1.0
+    if isinstance(field, RowTransformField):  # rows by Parseval, the side strips' columns made alone
+        sides = field.columns(np.r_[0:bx, nx - bx:nx], slice(by, ny - by))
+        band = field.rows_power(slice(0, by)) + field.rows_power(slice(ny - by, ny)) + float(np.vdot(sides, sides).real)
+        return min(1.0, max(0.0, band / total))
     if isinstance(field, BoxedField):  # zero outside its box: the band's part of the box
         (rows, columns), values = field.support, field.box
 

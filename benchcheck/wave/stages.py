@@ -56,7 +56,7 @@ from benchcheck.wave.axis_transforms import (
     split_axis,
     stage_method,
 )
-from benchcheck.wave.field import BoxedField, Field, support_values
+from benchcheck.wave.field import BoxedField, Field, RowTransformField, support_values
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.pixel_cells import (
     PixelCells,
@@ -206,31 +206,20 @@ def _propagate_plain(field: Field, matrices, output_grid, plane: str, workers: i
         _raise_refusals(found, plane)
         notes.extend(note.text() for note in found)
     both_fourier = all(ax.branch == "fourier" for ax in axes)
+    # an asked-for grid within 1e-9 of the natural pitch is returned exactly as asked
+    grid = output_grid if output_grid is not None else output_grid_of(axes)
     try:
         if output_box is not None and both_fourier:
             box_values = _fourier_to_box(field, axes, dtype, workers, notes, output_box)
-            grid = output_grid if output_grid is not None else output_grid_of(axes)
             return StageResult(_boxed(box_values, grid, field.wavelength, plane, output_box), "fourier",
                                tuple(notes))
-        if field.support is not None and both_fourier:
-            work = _pruned_fourier(field, axes, dtype, workers, notes)  # copies the box in ``dtype``
-            axes_left, owned = [], True
-        else:
-            work = field.values.astype(dtype, copy=False)
-            axes_left = axes
-            owned = work is not field.values  # the input field is never changed: the first axis copies it
-        for ax in axes_left:
-            if ax.branch == "fourier":
-                work = fourier_axis(work, ax, field.wavelength, workers, notes, owned)
-            elif ax.branch == "split":
-                work = split_axis(work, ax, field.wavelength, workers, notes, owned)
-            else:
-                continue
-            owned = True
+        # past a small iris, the x transform is made when something reads the values
+        out = _row_transform(field, axes, dtype, workers, notes, grid, plane) \
+            if field.support is not None and both_fourier else None
+        if out is None:
+            out = Field(_transformed(field, axes, dtype, workers, notes, both_fourier), grid, field.wavelength, plane)
     except SamplingError as error:
         raise SamplingError(f"stage to plane '{plane}': {error}") from None
-    # an asked-for grid within 1e-9 of the natural pitch is returned exactly as asked
-    out = Field(work, output_grid if output_grid is not None else output_grid_of(axes), field.wavelength, plane)
     found = check_window(out, plane)
     if all(ax.natural for ax in axes):
         _raise_refusals(found, plane)  # a natural window that the beam overfills has wrapped
@@ -238,26 +227,58 @@ def _propagate_plain(field: Field, matrices, output_grid, plane: str, workers: i
     return StageResult(out, stage_method(axes), tuple(notes))
 
 
+def _transformed(field: Field, axes, dtype, workers: int, notes: list, both_fourier: bool) -> np.ndarray:
+    """The field's values carried through the stage's axes, in ``dtype``."""
+    if field.support is not None and both_fourier:
+        return _pruned_fourier(field, axes, dtype, workers, notes)  # copies the box in ``dtype``
+    work = field.values.astype(dtype, copy=False)
+    owned = work is not field.values  # the input field is never changed: the first axis copies it
+    for ax in axes:
+        if ax.branch == "fourier":
+            work = fourier_axis(work, ax, field.wavelength, workers, notes, owned)
+        elif ax.branch == "split":
+            work = split_axis(work, ax, field.wavelength, workers, notes, owned)
+        else:
+            continue
+        owned = True
+    return work
+
+
 def _pruned_fourier(field: Field, axes, dtype, workers: int, notes: list, rows_out=slice(None)) -> np.ndarray:
     """Fourier branch on both axes for a field that is zero outside its support box.
 
-    Along y only the box's columns are transformed (the other columns are zero and stay
-    zero); along x, every output row. Off the FFT path an axis transforms the box's samples
-    alone, with its input factor applied to them (a matrix product for a short box,
-    direct_dft.py, else a chirp-z transform as long as the box). On the FFT path the box is
-    placed in the full window (along x then over contiguous rows, about twice as fast as
-    along y on one thread): with BLAS on one thread beside a two-thread FFT, the product of
-    a 43-sample box took 5.7-6.1 ms at 1024 against 5.2-5.6 ms for the FFT.
-    ``rows_out``: only these output rows.
+    Along y only the box's columns are transformed (``_pruned_lines``); along x, every output
+    row. Off the FFT path the x axis transforms the box's samples alone, with its input
+    factor applied to them (a matrix product for a short box, direct_dft.py, else a chirp-z
+    transform as long as the box). On the FFT path the box is placed in the full window
+    (along x then over contiguous rows, about twice as fast as along y on one thread): with
+    BLAS on one thread beside a two-thread FFT, the product of a 43-sample box took 5.7-6.1
+    ms at 1024 against 5.2-5.6 ms for the FFT. ``rows_out``: only these output rows.
     """
+    columns = field.support[1]
+    x_axis = axes[0]  # plan_axes gives x, then y
+    lines = _pruned_lines(field, axes, dtype, workers, notes, rows_out)
+    if _on_box_only(x_axis, field.wavelength):
+        return fourier_axis(np.ascontiguousarray(lines), x_axis, field.wavelength, workers, notes,
+                            input_applied=True, first_index=columns.start)
+    full = np.zeros((lines.shape[0], field.grid.nx), dtype)
+    full[:, columns] = lines
+    return fourier_axis(full, x_axis, field.wavelength, workers, notes, input_applied=True)
+
+
+def _on_box_only(ax, wavelength: float) -> bool:
+    """Whether an axis of the Fourier branch is off the FFT path (chirp-z or matrix product,
+    on the box's samples alone)."""
+    return not fourier_parts(ax, wavelength)[3]
+
+
+def _pruned_lines(field: Field, axes, dtype, workers: int, notes: list, rows_out=slice(None)) -> np.ndarray:
+    """The y step of ``_pruned_fourier`` on the box's columns, times the x axis's input
+    factor there: (output rows × box columns)."""
     rows, columns = field.support
-    x_axis, y_axis = axes  # plan_axes gives x, then y
+    x_axis, y_axis = axes
     wavelength = field.wavelength
-
-    def on_box_only(ax) -> bool:
-        return not fourier_parts(ax, wavelength)[3]  # off the FFT path: chirp-z or product, on the box
-
-    if on_box_only(y_axis):
+    if _on_box_only(y_axis, wavelength):
         lines = support_values(field).astype(dtype)  # a copy
         lines *= fourier_parts(y_axis, wavelength)[0][rows].astype(dtype)[:, np.newaxis]
         lines = fourier_axis(lines, y_axis, wavelength, workers, notes, input_applied=True,
@@ -267,12 +288,19 @@ def _pruned_fourier(field: Field, axes, dtype, workers: int, notes: list, rows_o
         lines[rows] = support_values(field)
         lines = fourier_axis(lines, y_axis, wavelength, workers, notes)[rows_out]
     lines *= fourier_parts(x_axis, wavelength)[0][columns].astype(dtype)[np.newaxis, :]
-    if on_box_only(x_axis):
-        return fourier_axis(np.ascontiguousarray(lines), x_axis, wavelength, workers, notes,
-                            input_applied=True, first_index=columns.start)
-    full = np.zeros((lines.shape[0], field.grid.nx), dtype)
-    full[:, columns] = lines
-    return fourier_axis(full, x_axis, wavelength, workers, notes, input_applied=True)
+    return lines
+
+
+def _row_transform(field: Field, axes, dtype, workers: int, notes: list, grid: Grid, plane: str):
+    """``_pruned_fourier``'s field with its x transform left pending (a RowTransformField),
+    where x is on the plain FFT path onto as many samples; else None."""
+    x_axis = axes[0]
+    if _on_box_only(x_axis, field.wavelength) or x_axis.n_out != x_axis.n_in:
+        return None
+    _, factor_out, alpha, _, _ = fourier_parts(x_axis, field.wavelength)
+    lines = _pruned_lines(field, axes, dtype, workers, notes)
+    return RowTransformField(lines, field.support[1].start, 1 if alpha > 0 else -1, factor_out.astype(dtype),
+                             grid, field.wavelength, plane)
 
 
 def _fourier_to_box(field: Field, axes, dtype, workers: int, notes: list, box) -> np.ndarray:

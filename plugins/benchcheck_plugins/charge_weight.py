@@ -41,7 +41,7 @@ import scipy.special
 
 from benchcheck.metrics import MetricUnavailable
 from benchcheck.thread_pools import fft_workers
-from benchcheck.wave.field import Field
+from benchcheck.wave.field import Field, RowTransformField
 from benchcheck.wave.grid import Grid
 
 from benchcheck_plugins.spectral_band import power_by_column, reach_index
@@ -88,23 +88,31 @@ def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldB
     ``DROPPED_SPECTRAL_POWER`` (a Gaussian spectrum's disc needs 1.07 times), and the disc
     leaves out at most ``_DISC_DROP`` of the power; stray light spread over the window can
     make the box the limit. The y ramp is applied after the x transform, on the kept columns
-    only (a factor per row passes through a transform along the rows).
+    only (a factor per row passes through a transform along the rows). A field that holds
+    its rows as the transform of a few columns (``RowTransformField``) is never made: its x
+    transform comes from those columns (``_row_transform_spectrum``).
     """
     grid = field.grid
     wavenumber = 2 * math.pi / field.wavelength
-    if slopes[0]:
-        along_rows = field.values * np.exp(-1j * wavenumber * slopes[0] * grid.x).astype(field.values.dtype)
-        along_rows = scipy.fft.fft(along_rows, axis=1, overwrite_x=True, workers=fft_workers(along_rows.nbytes))
+    if isinstance(field, RowTransformField):  # held as the few columns its rows transform
+        column_power, columns_of = _row_transform_spectrum(field, wavenumber * slopes[0])
     else:
-        along_rows = scipy.fft.fft(field.values, axis=1, workers=fft_workers(field.values.nbytes))
-    column_power = power_by_column(along_rows)
+        if slopes[0]:
+            along_rows = field.values * np.exp(-1j * wavenumber * slopes[0] * grid.x).astype(field.values.dtype)
+            along_rows = scipy.fft.fft(along_rows, axis=1, overwrite_x=True, workers=fft_workers(along_rows.nbytes))
+        else:
+            along_rows = scipy.fft.fft(field.values, axis=1, workers=fft_workers(field.values.nbytes))
+        column_power = power_by_column(along_rows)
+
+        def columns_of(indices: np.ndarray) -> np.ndarray:
+            return along_rows[:, indices]
     if not column_power.sum() > 0:
         raise MetricUnavailable("the field carries no power in the window")
     reach_x = math.ceil(_BOX_MARGIN * reach_index(column_power, grid.nx))
     if 2 * reach_x + 1 > grid.nx:
         return None
     columns = np.arange(-reach_x, reach_x + 1) % grid.nx
-    kept = along_rows[:, columns]
+    kept = columns_of(columns)
     if slopes[1]:
         kept *= np.exp(-1j * wavenumber * slopes[1] * grid.y).astype(kept.dtype)[:, np.newaxis]
     spectrum = scipy.fft.fft(kept, axis=0, overwrite_x=True, workers=fft_workers(kept.nbytes))
@@ -126,6 +134,34 @@ def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldB
         return None
     box[~disc] = 0
     return FieldBand(box, fx, fy, disc, grid)
+
+
+def _row_transform_spectrum(field: RowTransformField, wavenumber_slope: float):
+    """(Σ over rows of |A|² for every column, a function giving A's columns) for A, the
+    transform along x of the field times exp(−i k sx x), from the field's held lines g alone.
+
+    Each row is c(m) Σ_j g[j] w^(s (f + j) m) with c = factor × the ramp, w = exp(−2πi/N), so
+    its transform is A[q] = Σ_j g[j] Ĉ[q + s (f + j)] (indices modulo N), Ĉ = FFT(c): one
+    transform of length N, and a matrix product with the held columns. The column powers are
+    the quadratic forms Σ H[q, j] M[j, j'] conj(H[q, j']) with M = gᵀ ḡ (the held columns'
+    Gram matrix) and H[q, j] = Ĉ[q + s (f + j)]: a product with M, never the N x N spectrum.
+    Exact (in double precision) where the window's FFT of the field is exact."""
+    grid = field.grid
+    n = grid.nx
+    chirp = field.factor.astype(np.complex128)
+    if wavenumber_slope:
+        chirp = chirp * np.exp(-1j * wavenumber_slope * grid.x)
+    spectrum = scipy.fft.fft(chirp, workers=1)
+    held = field.sign * (field.first + np.arange(field.lines.shape[1]))
+    lines = field.lines.astype(np.complex128)
+    gram = lines.T @ lines.conj()
+    hankel = spectrum[(np.arange(n)[:, np.newaxis] + held[np.newaxis, :]) % n]
+    column_power = np.einsum("qj,qj->q", hankel @ gram, hankel.conj()).real
+
+    def columns_of(indices: np.ndarray) -> np.ndarray:
+        return lines @ hankel[indices].T
+
+    return column_power, columns_of
 
 
 def band_centroid(band: FieldBand) -> tuple[float, float]:

@@ -31,10 +31,10 @@ def power_in_region(field: Field, axis: tuple[float, float], radius: float | Non
     radius : float or None
         Radius of the region (m); None for the whole window.
     """
-    values = field.values
     mask = region_mask(field, axis, radius)
-    if mask is not None:
-        values = values[np.broadcast_to(mask, field.grid.shape)]
+    if mask is None:
+        return field.power  # kept on the field (a field held in a reduced form sums that)
+    values = field.values[np.broadcast_to(mask, field.grid.shape)]
     # blockwise np.vdot in the field's precision, blocks summed in double (benchcheck.wave.sums)
     return power_sum(values) * field.grid.sample_area
 

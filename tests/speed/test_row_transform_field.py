@@ -1,0 +1,153 @@
+"""The field a Fourier stage carries from a small iris holds its few transformed columns
+(RowTransformField): its values are made only when read, and then they are the window's DFT
+along x (checked against numpy.fft); its power, edge share and the OAM weight's band follow
+from the held columns alone and agree with those of the window."""
+
+from __future__ import annotations
+
+import pickle
+
+import numpy as np
+import pytest
+
+from benchcheck.api import load_layout
+from benchcheck.evaluate.factory import make_evaluator
+from benchcheck.wave.field import Field, RowTransformField, values_made
+from benchcheck.wave.grid import Grid
+from benchcheck.wave.sampling import edge_energy
+from benchcheck_plugins.charge_weight import field_band
+from tests.speed.conftest import scaled_relay_text
+
+N = 64
+FIRST = 20
+WAVELENGTH = 1.064e-6
+
+
+def _factor(curvature: float = 0.0) -> np.ndarray:
+    """An output factor as a Fourier stage makes one: a constant times a chirp."""
+    m = np.arange(N) - N // 2
+    return (0.3 * np.exp(1j * (curvature * m**2 + 0.2 * m))).astype(np.complex64)
+
+
+def _lines(smooth: bool) -> np.ndarray:
+    if smooth:  # a beam that is smooth along y, on 7 columns
+        rows, columns = np.mgrid[0:N, 0:7]
+        return (np.exp(-((rows - 30.0) / 6.0) ** 2 - ((columns - 3.0) / 1.5) ** 2)
+                * np.exp(0.3j * columns)).astype(np.complex64)
+    rng = np.random.default_rng(7)
+    return (rng.standard_normal((N, 7)) + 1j * rng.standard_normal((N, 7))).astype(np.complex64)
+
+
+def _pending(lines, sign, factor) -> RowTransformField:
+    return RowTransformField(lines, FIRST, sign, factor, Grid.square(N, 10e-6), WAVELENGTH, "cam")
+
+
+def _reference(lines, sign, factor) -> np.ndarray:
+    """numpy.fft's DFT along x of the lines placed in the window (sign −1: the inverse
+    transform without its 1/N), times the factor, in double precision."""
+    window = np.zeros((N, N), np.complex128)
+    window[:, FIRST:FIRST + lines.shape[1]] = lines
+    transformed = np.fft.fft(window, axis=1) if sign > 0 else np.fft.ifft(window, axis=1) * N
+    return transformed * factor.astype(np.complex128)[np.newaxis, :]
+
+
+@pytest.mark.parametrize("sign", [1, -1])
+def test_the_values_are_the_dft_of_the_held_columns(sign):
+    # Made in complex64 against numpy.fft in double: float32 rounding, 1e-5 of the peak. The
+    # power by Parseval from the held columns against Σ|E|² of the reference: 1e-6 relative.
+    lines, factor = _lines(smooth=False), _factor(0.01)
+    field = _pending(lines, sign, factor)
+    reference = _reference(lines, sign, factor)
+    peak = np.abs(reference).max()
+    assert field.power == pytest.approx(np.sum(np.abs(reference) ** 2) * field.grid.sample_area, rel=1e-6)
+    assert field.rows_power(slice(5, 9)) == pytest.approx(np.sum(np.abs(reference[5:9]) ** 2), rel=1e-6)
+    some = np.array([0, 3, 31, 32, 60, 63])
+    assert np.allclose(field.columns(some, slice(2, 50)), reference[2:50][:, some], rtol=0, atol=1e-5 * peak)
+    assert not values_made(field)
+    assert np.allclose(field.values, reference, rtol=0, atol=1e-5 * peak)
+    restored = pickle.loads(pickle.dumps(field))
+    assert type(restored) is Field and np.array_equal(restored.values, field.values)
+
+
+def test_a_factor_of_two_moduli_is_refused():
+    factor = _factor()
+    factor[5] *= 2
+    with pytest.raises(ValueError, match="one modulus"):
+        _pending(_lines(smooth=False), 1, factor)
+
+
+def test_the_edge_share_from_the_held_columns_is_that_of_the_window():
+    # The outer 5 % band's share of the power: rows by Parseval and the side strips' columns
+    # made alone, against the same share of the window made in full (float32 sums: 1e-5).
+    for lines in (_lines(smooth=False), _lines(smooth=True)):
+        fresh = _pending(lines, 1, _factor(0.01))
+        window = Field(_pending(lines, 1, _factor(0.01)).values, fresh.grid, WAVELENGTH, "cam")
+        assert edge_energy(fresh) == pytest.approx(edge_energy(window), rel=1e-5, abs=1e-12)
+        assert not values_made(fresh)
+
+
+@pytest.mark.parametrize("sign", [1, -1])
+@pytest.mark.parametrize("slopes", [(0.0, 0.0), (2e-3, -1e-3)])
+def test_the_oam_band_from_the_held_columns_is_the_band_of_the_window(slopes, sign):
+    # The x transform of the field (tilt taken out) from the DFT of the factor and the held
+    # columns, against scipy.fft of the window made in full: the same band is cut, and its
+    # values agree to the window's float32 rounding (1e-5 of the peak). A beam small in the
+    # window (Gaussian on 21 held columns next to zero frequency, about 10 samples wide along
+    # x, in the window's middle by the phase step π between columns), so that the window's
+    # edge leaks nothing into the band.
+    n = 128
+    rows, columns = np.mgrid[0:n, 0:21]
+    lines = (np.exp(-((rows - 64.0) / 8.0) ** 2 - ((columns - 10.0) / 3.0) ** 2) * np.exp(1j * np.pi * columns))
+    m = np.arange(n) - n // 2
+    factor = 0.3 * np.exp(1j * (5e-4 * m**2 + 2 * np.pi * 3.3 * m / n))
+
+    def pending():
+        return RowTransformField(lines.astype(np.complex64), 0, sign, factor.astype(np.complex64),
+                                 Grid.square(n, 10e-6), WAVELENGTH, "cam")
+
+    fresh = pending()
+    window = Field(pending().values, fresh.grid, WAVELENGTH, "cam")
+    from_lines, from_window = field_band(fresh, slopes), field_band(window, slopes)
+    assert from_lines is not None and from_window is not None
+    assert from_lines.box.shape == from_window.box.shape and np.array_equal(from_lines.disc, from_window.disc)
+    peak = np.abs(from_window.box).max()
+    assert np.allclose(from_lines.box, from_window.box, rtol=0, atol=1e-5 * peak)
+    assert not values_made(fresh)
+
+
+def test_a_study_trial_does_not_transform_the_camera_window(tmp_path):
+    # The example's own specs (OAM purity about the beam, efficiency, pointing) in a study's
+    # trial and in a full evaluation of the same excursion, which makes every window: the same
+    # samples in another order of sums (float32 rounding: 1e-6).
+    path = tmp_path / "relay.toml"
+    path.write_text(scaled_relay_text(128))
+    layout = load_layout(path)
+    excursion = {"slm.x": 2e-6, "cam.z": 4e-4}
+    trial = make_evaluator(layout, study=True).evaluate(excursion, wave=True)
+    camera = trial.simulation.planes["cam"].field
+    assert isinstance(camera, RowTransformField) and not values_made(camera)
+    full = make_evaluator(layout).evaluate(excursion, wave=True)
+    for metric in ("cam.oam_purity", "cam.efficiency"):
+        assert trial.metrics[metric] == pytest.approx(full.metrics[metric], rel=1e-6)
+
+
+def test_a_nan_reaching_the_held_columns_marks_the_trial(tmp_path, monkeypatch):
+    # A NaN in the modulator's window reaches the camera's held columns; their power sum is
+    # checked though the camera window is never made.
+    from benchcheck.evaluate import panel_hologram
+
+    path = tmp_path / "relay.toml"
+    path.write_text(scaled_relay_text(128))
+    evaluator = make_evaluator(load_layout(path), study=True)
+    modulation = panel_hologram.PanelHologram.modulation
+
+    def with_a_nan(self, *args, **kwargs):
+        made, less_one = modulation(self, *args, **kwargs)
+        made, less_one = made.copy(), less_one.copy()
+        made[40, 40] = less_one[40, 40] = np.nan
+        return made, less_one
+
+    monkeypatch.setattr(panel_hologram.PanelHologram, "modulation", with_a_nan)
+    trial = evaluator.evaluate({"slm.x": 3e-6}, wave=True)
+    assert isinstance(trial.simulation.planes["cam"].field, RowTransformField)
+    assert "cam: the field holds NaN or Inf" in trial.simulation.faults
