@@ -219,13 +219,13 @@ class RowTransformField(Field):
         return self.grid.nx * self.factor_power * power_sum(self.lines[rows])
 
     def columns(self, indices: np.ndarray, rows: slice = slice(None)) -> np.ndarray:
-        """``values[rows][:, indices]`` (complex128), without the window: one matrix product
-        with the DFT's columns (phases from exact integer products modulo N)."""
+        """``values[rows][:, indices]``, without the window: one matrix product with the DFT's
+        columns (phases from exact integer products modulo N), in the field's precision."""
         n = self.grid.nx
         indices = np.asarray(indices, np.int64) % n
         held = np.arange(self.first, self.first + self.lines.shape[1], dtype=np.int64)
         kernel = np.exp((-2j * np.pi * self.sign / n) * (np.multiply.outer(held, indices) % n))
-        return (self.lines[rows].astype(np.complex128) @ kernel) * self.factor[indices].astype(np.complex128)
+        return (self.lines[rows] @ kernel.astype(self.lines.dtype)) * self.factor[indices]
 
     @cached_property
     def power(self) -> float:  # noqa: D102 - from the lines alone

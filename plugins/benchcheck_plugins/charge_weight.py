@@ -32,12 +32,14 @@ J_{−n} = (−1)ⁿ J_n, so a negative charge uses |l| in the integrals.
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 
 import numpy as np
 import scipy.fft
 import scipy.special
+from numpy.lib.stride_tricks import sliding_window_view
 
 from benchcheck.metrics import MetricUnavailable
 from benchcheck.thread_pools import fft_workers
@@ -121,11 +123,8 @@ def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldB
         return None
     rows = np.arange(-reach_y, reach_y + 1) % grid.ny
     box = spectrum[rows].astype(np.complex128) / (grid.nx * grid.ny)
-    fx = np.arange(-reach_x, reach_x + 1) / (grid.nx * grid.pitch[0])
-    fy = np.arange(-reach_y, reach_y + 1) / (grid.ny * grid.pitch[1])
-    radius = np.hypot(fx[np.newaxis, :], fy[:, np.newaxis])
+    fx, fy, radius, by_radius = _box_radii(reach_x, reach_y, grid.nx * grid.pitch[0], grid.ny * grid.pitch[1])
     power = (box.real**2 + box.imag**2).ravel()
-    by_radius = np.argsort(radius.ravel(), kind="stable")[::-1]  # outermost first
     tail = np.cumsum(power[by_radius]) / (float(column_power.sum()) / (grid.nx**2 * grid.ny))
     beyond = np.flatnonzero(tail < _DISC_DROP)  # may be dropped, outermost first
     outermost = radius.ravel()[by_radius[beyond[-1] + 1]] if beyond.size < power.size else 0.0
@@ -136,30 +135,48 @@ def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldB
     return FieldBand(box, fx, fy, disc, grid)
 
 
+@functools.lru_cache(maxsize=64)
+def _box_radii(reach_x: int, reach_y: int, width: float, height: float):
+    """(fx, fy, |f| on the box, its flat indices from the outermost radius in) for a band
+    box of columns −reach_x..reach_x and rows −reach_y..reach_y of a window width x height
+    (m): the same for every trial whose band has these reaches (read-only, shared)."""
+    fx = np.arange(-reach_x, reach_x + 1) / width
+    fy = np.arange(-reach_y, reach_y + 1) / height
+    radius = np.hypot(fx[np.newaxis, :], fy[:, np.newaxis])
+    by_radius = np.argsort(radius.ravel(), kind="stable")[::-1]  # outermost first
+    for array in (fx, fy, radius, by_radius):
+        array.flags.writeable = False
+    return fx, fy, radius, by_radius
+
+
 def _row_transform_spectrum(field: RowTransformField, wavenumber_slope: float):
     """(Σ over rows of |A|² for every column, a function giving A's columns) for A, the
     transform along x of the field times exp(−i k sx x), from the field's held lines g alone.
 
     Each row is c(m) Σ_j g[j] w^(s (f + j) m) with c = factor × the ramp, w = exp(−2πi/N), so
     its transform is A[q] = Σ_j g[j] Ĉ[q + s (f + j)] (indices modulo N), Ĉ = FFT(c): one
-    transform of length N, and a matrix product with the held columns. The column powers are
-    the quadratic forms Σ H[q, j] M[j, j'] conj(H[q, j']) with M = gᵀ ḡ (the held columns'
-    Gram matrix) and H[q, j] = Ĉ[q + s (f + j)]: a product with M, never the N x N spectrum.
-    Exact (in double precision) where the window's FFT of the field is exact."""
+    transform of length N, and a matrix product with the held columns (in their precision,
+    that of the window's transform). The column powers are the quadratic forms
+    Σ H[q, j] M[j, j'] conj(H[q, j']) with M = gᵀ ḡ (the held columns' Gram matrix, in double
+    precision: far columns carry 1e-7 of the power, which single-precision sums of the form
+    would blur) and H[q, j] = Ĉ[q + s (f + j)], a Hankel matrix (a strided view of Ĉ): a
+    product with M, never the N x N spectrum."""
     grid = field.grid
-    n = grid.nx
+    n, held = grid.nx, field.lines.shape[1]
     chirp = field.factor.astype(np.complex128)
     if wavenumber_slope:
         chirp = chirp * np.exp(-1j * wavenumber_slope * grid.x)
     spectrum = scipy.fft.fft(chirp, workers=1)
-    held = field.sign * (field.first + np.arange(field.lines.shape[1]))
+    # hankel[q, j] = Ĉ[q + f + j] for s = +1; for s = −1 the same view reversed along j
+    offset = field.first if field.sign > 0 else -(field.first + held - 1)
+    hankel = sliding_window_view(spectrum[(np.arange(n + held - 1) + offset) % n], held)
+    if field.sign < 0:
+        hankel = hankel[:, ::-1]
     lines = field.lines.astype(np.complex128)
-    gram = lines.T @ lines.conj()
-    hankel = spectrum[(np.arange(n)[:, np.newaxis] + held[np.newaxis, :]) % n]
-    column_power = np.einsum("qj,qj->q", hankel @ gram, hankel.conj()).real
+    column_power = np.einsum("qj,qj->q", hankel @ (lines.T @ lines.conj()), hankel.conj()).real
 
     def columns_of(indices: np.ndarray) -> np.ndarray:
-        return lines @ hankel[indices].T
+        return field.lines @ hankel[indices].T.astype(field.lines.dtype)
 
     return column_power, columns_of
 
