@@ -17,8 +17,7 @@ Every number is measured side by side in one run and printed as a ratio:
   variants: a spec that reads the field only (efficiency at the camera) and one
   that also reads the target (mode purity), for which each trial lands on the nominal camera
   grid by a chirp-z transform. With pyFFTW installed, the same with its backend;
-* the same for the example's own specs (OAM purity about the beam, efficiency, pointing),
-  also with the OAM metric's own transform of the camera field (along x) in the floor;
+* the same for the example's own specs (OAM purity about the beam, efficiency, pointing);
 * peak traced memory of one trial in field-sized arrays;
 * a study of the 4f example as shipped: the trial loop of one worker on one core (one FFT
   thread; before and after the studies, averaged), a study in this process (FFTs on all
@@ -150,7 +149,7 @@ def _trial_times(path: Path, trials: int, fft_threads: int = -1) -> dict:
     recorded = _recorded_transforms(evaluator, perturbations[-1])  # a trial not seen before: its target is made
     grid = nominal.simulation.planes[next(iter(nominal.simulation.planes))].field.grid.nx
     floor_input = (np.random.default_rng(1).standard_normal((grid, grid)) + 0j).astype(np.complex64)
-    times = {"trial": [], "floor": [], "metric_floor": [], "replay": []}
+    times = {"trial": [], "floor": [], "replay": []}
     for perturbation in perturbations[1:-1]:
         start = time.perf_counter()
         evaluator.evaluate(perturbation)
@@ -159,9 +158,6 @@ def _trial_times(path: Path, trials: int, fft_threads: int = -1) -> dict:
         for _ in range(transforms):
             scipy.fft.fft2(floor_input, workers=-1)
         times["floor"].append(time.perf_counter() - start)
-        start = time.perf_counter()
-        scipy.fft.fft(floor_input, axis=1, workers=-1)  # the OAM metric's transform of the camera field
-        times["metric_floor"].append(times["floor"][-1] + time.perf_counter() - start)
         times["replay"].append(_replayed(recorded))
     tracemalloc.start()
     evaluator.evaluate(perturbations[0])
@@ -314,8 +310,7 @@ def main() -> None:
         print("  the target is made once, by a chirp-z transform. Also against the transforms the trial")
         print("  itself makes, its metrics' included, recorded in one trial and replayed at the same")
         print("  sizes and precision; zoomed DFTs of short inputs are matrix products, not counted there.")
-        print("  The example's own specs add OAM purity, which transforms the camera field once more along")
-        print("  x: that line is also shown with this transform in the floor)")
+        print("  The example's own specs add OAM purity about the beam)")
         for backend in backends:
             use_fft_backend(backend)
             for grid in args.grids:
@@ -330,12 +325,6 @@ def main() -> None:
                           f"its own {timed['recorded']} transforms "
                           f"{replay * 1e3:6.1f} ms, ratio {timed['ratio_replay']:5.2f}; "
                           f"peak {timed['peak'] / field_bytes:5.1f} field-sized arrays")
-                    if spec == "example":
-                        best = timed["best_trial"] / timed["best_metric_floor"]
-                        print(f"  {'':6s} {'':10s} {'':7s}       with the OAM metric's transform in the floor "
-                              f"({timed['transforms']} fft2 + 1 fft along x) "
-                              f"{timed['metric_floor'] * 1e3:7.1f} ms, ratio {timed['ratio_metric_floor']:5.2f} "
-                              f"(best of each {best:5.2f})")
         use_fft_backend("scipy")
         if args.study_trials > 0:
             _print_study(folder, args.study_grid, args.study_trials)

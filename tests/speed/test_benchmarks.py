@@ -29,7 +29,6 @@ def test_trial_speed_prints_its_ratios():
     assert "ratio" in output and "fft2" in output
     assert "from the second core" in output and "projected 10,000 trials" in output
     assert "example spec" in output and "mode purity" in output and "step-by-step reference" in output
-    assert "with the OAM metric's transform in the floor" in output
 
 
 @pytest.mark.slow
