@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -166,6 +167,14 @@ def support_values(field: Field, box: tuple[slice, slice] | None = None) -> np.n
     return field.values[box]
 
 
+@functools.lru_cache(maxsize=8)
+def _roots_of_unity(n: int, sign: int, dtype_name: str) -> np.ndarray:
+    """exp(−2πi · sign · k / n) for k < n, in double precision then the field's (read-only)."""
+    roots = np.exp((-2j * np.pi * sign / n) * np.arange(n)).astype(dtype_name)
+    roots.flags.writeable = False
+    return roots
+
+
 class RowTransformField(Field):
     """A field whose every row is a DFT along x of a few nonzero samples, held as those samples.
 
@@ -224,8 +233,8 @@ class RowTransformField(Field):
         n = self.grid.nx
         indices = np.asarray(indices, np.int64) % n
         held = np.arange(self.first, self.first + self.lines.shape[1], dtype=np.int64)
-        kernel = np.exp((-2j * np.pi * self.sign / n) * (np.multiply.outer(held, indices) % n))
-        return (self.lines[rows] @ kernel.astype(self.lines.dtype)) * self.factor[indices]
+        kernel = _roots_of_unity(n, self.sign, self.lines.dtype.name)[np.multiply.outer(held, indices) % n]
+        return (self.lines[rows] @ kernel) * self.factor[indices]
 
     @cached_property
     def power(self) -> float:  # noqa: D102 - from the lines alone

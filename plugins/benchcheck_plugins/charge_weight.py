@@ -304,6 +304,20 @@ def _common_step(steps: tuple[float, float]) -> float | None:
     return steps[0] if abs(steps[0] - steps[1]) <= 1e-12 * max(steps) else None
 
 
+@functools.lru_cache(maxsize=64)
+def _lag_lattice(shape: tuple[int, int]):
+    """(lag rows, lag columns as floats, the half-plane of lags counted twice, i² + j²) for an
+    autocorrelation of ``shape`` in natural FFT order (read-only, shared between trials)."""
+    iy = scipy.fft.fftfreq(shape[0], 1.0 / shape[0])[:, np.newaxis]
+    ix = scipy.fft.fftfreq(shape[1], 1.0 / shape[1])[np.newaxis, :]
+    # A(−q) = conj A(q) and D is even: one half-plane of lags, counted twice
+    half = (iy > 0) | ((iy == 0) & (ix > 0))
+    keys = (iy * iy + ix * ix).astype(np.int64)
+    for array in (iy, ix, half, keys):
+        array.flags.writeable = False
+    return iy, ix, half, keys
+
+
 def _disc_power(box: np.ndarray, frequency_step: tuple[float, float], reach: float, outer: float) -> float:
     """∫ over the disc of radius R about the axis of |E|²: Σ_q A_q D(|q|) over the lags q of
     the band's autocorrelation A (Wiener–Khinchin: the inverse transform of |transform|²
@@ -320,13 +334,9 @@ def _disc_power(box: np.ndarray, frequency_step: tuple[float, float], reach: flo
     # half of it by irfft2
     spectrum += np.roll(spectrum[::-1, ::-1], 1, axis=(0, 1))
     lags = scipy.fft.irfft2(spectrum[:, : shape[1] // 2 + 1], s=shape, workers=workers) / 2
-    iy = scipy.fft.fftfreq(shape[0], 1.0 / shape[0])[:, np.newaxis]  # lag indices, as floats
-    ix = scipy.fft.fftfreq(shape[1], 1.0 / shape[1])[np.newaxis, :]
-    # A(−q) = conj A(q) and D is even: one half-plane of lags, counted twice
-    half = (iy > 0) | ((iy == 0) & (ix > 0))
+    iy, ix, half, keys = _lag_lattice(shape)
     step = _common_step(frequency_step)
     if step is not None:
-        keys = (iy * iy + ix * ix).astype(np.int64)
         near = (keys <= (2 * reach / step) ** 2 * (1 + 1e-12)) & half
         by_key = np.bincount(keys[near], weights=lags[near])
         distinct = np.flatnonzero(np.bincount(keys[near]))
