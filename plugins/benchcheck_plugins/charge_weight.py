@@ -53,8 +53,12 @@ __all__ = ["FieldBand", "field_band", "band_centroid", "charge_weight"]
 # Frequencies (kept band) beyond which the closed form costs more than the rings: the
 # Lommel matrix grows as the square of the distinct radii among them.
 _MAX_FREQUENCIES = 8192
-# How much farther than each axis's own cut the box reaches, so that the disc fits in it.
-_BOX_MARGIN = 1.25
+# How much farther than each axis's own cut the box reaches, so that the disc fits in it:
+# 1.25 first (a Gaussian spectrum's disc needs 1.07); where stray light keeps even the box's
+# corners above _DISC_DROP (0.7 % of the 4f example's trials at 1024, whose first order
+# arrives tilted by 32 mrad), farther, until the box would outgrow the window (then the rings).
+_BOX_MARGINS = (1.25, 1.5, 2.0, 3.0)
+_BOX_TOO_SMALL = object()
 # Share of the power the disc may leave out of the box. A cut that is not round mixes
 # charges: on a pure vortex, 1 − weight came out about 0.12 times the share left out. And
 # where the disc of the weights cuts through the beam, the part left out no longer stays
@@ -86,10 +90,9 @@ def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldB
 
     The band is a disc about zero frequency: what a round cut leaves out mixes charges about
     any axis far less than a square one (on a lattice a disc is only nearly round). The box
-    it is cut from reaches ``_BOX_MARGIN`` times as far as each axis's cut at half of
-    ``DROPPED_SPECTRAL_POWER`` (a Gaussian spectrum's disc needs 1.07 times), and the disc
-    leaves out at most ``_DISC_DROP`` of the power; stray light spread over the window can
-    make the box the limit. The y ramp is applied after the x transform, on the kept columns
+    it is cut from reaches ``_BOX_MARGINS[0]`` times as far as each axis's cut at half of
+    ``DROPPED_SPECTRAL_POWER``, farther where the disc does not fit in it, and the disc
+    leaves out at most ``_DISC_DROP`` of the power. The y ramp is applied after the x transform, on the kept columns
     only (a factor per row passes through a transform along the rows). A field that holds
     its rows as the transform of a few columns (``RowTransformField``) is never made: its x
     transform comes from those columns (``_row_transform_spectrum``).
@@ -108,25 +111,39 @@ def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldB
 
         def columns_of(indices: np.ndarray) -> np.ndarray:
             return along_rows[:, indices]
-    if not column_power.sum() > 0:
+    total = float(column_power.sum())
+    if not total > 0:
         raise MetricUnavailable("the field carries no power in the window")
-    reach_x = math.ceil(_BOX_MARGIN * reach_index(column_power, grid.nx))
+    cut_x = reach_index(column_power, grid.nx)
+    for margin in _BOX_MARGINS:
+        band = _band_in_box(columns_of, math.ceil(margin * cut_x), margin, wavenumber * slopes[1], total, grid)
+        if band is not _BOX_TOO_SMALL:
+            return band
+    return None
+
+
+def _band_in_box(columns_of, reach_x: int, margin: float, wavenumber_slope_y: float, total: float, grid: Grid):
+    """``field_band``'s disc, cut from the box of columns −reach_x..reach_x and rows out to
+    ``margin`` times the y cut, from the x transform's columns (``columns_of``); None where
+    the box would not fit in the window or the disc holds too many frequencies;
+    ``_BOX_TOO_SMALL`` where even the box's outermost frequencies carry more than
+    ``_DISC_DROP`` of the power (``total``: Σ|x transform|²)."""
     if 2 * reach_x + 1 > grid.nx:
         return None
-    columns = np.arange(-reach_x, reach_x + 1) % grid.nx
-    kept = columns_of(columns)
-    if slopes[1]:
-        kept *= np.exp(-1j * wavenumber * slopes[1] * grid.y).astype(kept.dtype)[:, np.newaxis]
+    kept = columns_of(np.arange(-reach_x, reach_x + 1) % grid.nx)
+    if wavenumber_slope_y:
+        kept *= np.exp(-1j * wavenumber_slope_y * grid.y).astype(kept.dtype)[:, np.newaxis]
     spectrum = scipy.fft.fft(kept, axis=0, overwrite_x=True, workers=fft_workers(kept.nbytes))
-    reach_y = math.ceil(_BOX_MARGIN * reach_index(power_by_column(spectrum.T), grid.ny))
+    reach_y = math.ceil(margin * reach_index(power_by_column(spectrum.T), grid.ny))
     if 2 * reach_y + 1 > grid.ny:
         return None
-    rows = np.arange(-reach_y, reach_y + 1) % grid.ny
-    box = spectrum[rows].astype(np.complex128) / (grid.nx * grid.ny)
+    box = spectrum[np.arange(-reach_y, reach_y + 1) % grid.ny].astype(np.complex128) / (grid.nx * grid.ny)
     fx, fy, radius, by_radius = _box_radii(reach_x, reach_y, grid.nx * grid.pitch[0], grid.ny * grid.pitch[1])
     power = (box.real**2 + box.imag**2).ravel()
-    tail = np.cumsum(power[by_radius]) / (float(column_power.sum()) / (grid.nx**2 * grid.ny))
+    tail = np.cumsum(power[by_radius]) / (total / (grid.nx**2 * grid.ny))
     beyond = np.flatnonzero(tail < _DISC_DROP)  # may be dropped, outermost first
+    if beyond.size == 0:
+        return _BOX_TOO_SMALL
     outermost = radius.ravel()[by_radius[beyond[-1] + 1]] if beyond.size < power.size else 0.0
     disc = radius <= outermost
     if np.count_nonzero(disc) > _MAX_FREQUENCIES:
