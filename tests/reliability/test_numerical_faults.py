@@ -147,6 +147,22 @@ def test_the_metrics_of_a_plane_share_one_helper_and_one_that_hangs_leaves_the_r
     assert ran["after"][0] is not ran["hangs"][0]
 
 
+def test_each_metric_of_a_plane_has_its_own_time_limit_not_the_batch():
+    # Three metrics of 0.12 s each against a limit of 0.2 s: together they take longer than
+    # the limit, each alone does not, so none is abandoned (the caller, woken only at the end,
+    # measures each call from the end of the one before).
+    def steady(context):
+        time.sleep(0.12)
+        return 1.0
+
+    registry = MetricRegistry()
+    common = dict(needs_field=False, unit="", description="test", source="none (a test fixture)")
+    for name in ("first", "second", "third"):
+        registry.add(Metric(name, steady, **common), "test_plugin")
+    outcomes = evaluate_metrics(registry, ["first", "second", "third"], MetricContext("p", 1e-6), time_limit=0.2)
+    assert [outcome.value for outcome in outcomes] == [1.0, 1.0, 1.0]
+
+
 def test_a_stage_that_cannot_sample_is_a_fault(tmp_path, plugin_manager):
     runner = build_runner(load_layout(write_mirror_bench(tmp_path)), plugin_manager)
     runner.evaluator.needs_wave = True
