@@ -181,10 +181,11 @@ class RowTransformField(Field):
         values[r, m] = factor[m] · Σ_j lines[r, j] exp(−2πi · sign · (first + j) · m / N)
 
     (``sign`` +1: scipy.fft.fft, −1: ifft with norm="forward"; N = grid.nx). For the field a
-    Fourier stage carries from a small iris to the next plane, in a study: its power, its edge
-    bands and the transforms of OAM purity follow from ``lines`` alone (Parseval and the DFT
-    of ``factor``), so the window's transform along x is made only if something reads
-    ``values``. ``factor`` must have one modulus (a chirp times a constant: checked).
+    Fourier stage carries from a small iris to the next plane (x on the plain FFT path): its
+    power, its edge bands and the transforms of OAM purity follow from ``lines`` alone
+    (Parseval and the DFT of ``factor``), so the window's transform along x is made only if
+    something reads ``values``. ``factor`` must have one modulus (a chirp times a constant:
+    checked).
     """
 
     def __init__(self, lines: np.ndarray, first: int, sign: int, factor: np.ndarray, grid: Grid,

@@ -92,10 +92,11 @@ def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldB
     any axis far less than a square one (on a lattice a disc is only nearly round). The box
     it is cut from reaches ``_BOX_MARGINS[0]`` times as far as each axis's cut at half of
     ``DROPPED_SPECTRAL_POWER``, farther where the disc does not fit in it, and the disc
-    leaves out at most ``_DISC_DROP`` of the power. The y ramp is applied after the x transform, on the kept columns
-    only (a factor per row passes through a transform along the rows). A field that holds
-    its rows as the transform of a few columns (``RowTransformField``) is never made: its x
-    transform comes from those columns (``_row_transform_spectrum``).
+    leaves out at most ``_DISC_DROP`` of the power. The y ramp is applied after the x
+    transform, on the kept columns only (a factor per row passes through a transform along
+    the rows). A field that holds its rows as the transform of a few columns
+    (``RowTransformField``) is never made: its x transform comes from those columns
+    (``_row_transform_spectrum``).
     """
     grid = field.grid
     wavenumber = 2 * math.pi / field.wavelength
