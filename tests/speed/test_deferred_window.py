@@ -10,7 +10,7 @@ import numpy as np
 
 from benchcheck.api import load_layout
 from benchcheck.evaluate.factory import make_evaluator
-from benchcheck.wave.field import DeferredField, values_made
+from benchcheck.wave.field import DeferredField, RowTransformField, values_made
 from tests.speed.conftest import scaled_relay_text
 
 SPEC = '\n[[spec]]\nmetric = "efficiency"\nat = "cam"\nmin = 0.5\n'
@@ -46,7 +46,8 @@ def test_the_window_read_is_the_profiles_times_the_modulation(tmp_path):
 
 def test_a_nan_in_the_window_still_marks_the_trial(tmp_path, monkeypatch):
     # The window's values are not summed for the NaN check while no one reads them: a NaN in
-    # the modulation reaches every plane after it through the transforms, and those are checked.
+    # the modulation reaches every plane after it through the transforms, and those are checked,
+    # the camera's too, whose window is never made either (its held columns are summed).
     from benchcheck.evaluate import panel_hologram
 
     evaluator = _evaluator(tmp_path, study=True)
@@ -61,3 +62,6 @@ def test_a_nan_in_the_window_still_marks_the_trial(tmp_path, monkeypatch):
     monkeypatch.setattr(panel_hologram.PanelHologram, "modulation", with_a_nan)
     trial = evaluator.evaluate({"slm.x": 3e-6}, wave=True)
     assert any("NaN or Inf" in fault for fault in trial.simulation.faults)
+    camera = trial.simulation.planes["cam"].field
+    assert isinstance(camera, RowTransformField) and not values_made(camera)
+    assert "cam: the field holds NaN or Inf" in trial.simulation.faults
