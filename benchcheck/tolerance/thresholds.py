@@ -230,7 +230,8 @@ def failure_thresholds(evaluator, dofs: Sequence[Dof], search_factor: float = 10
     Returns
     -------
     list of Threshold
-        Sorted by margin, smallest first; dofs that never fail within ``search_factor`` x
+        Sorted by margin, smallest first (margins within the search's resolution,
+        ``THRESHOLD_XTOL``, by dof name); dofs that never fail within ``search_factor`` x
         their tolerance come last with ``threshold`` None and a note saying so. When the
         nominal bench already fails a spec, every dof gets threshold 0, margin 0, that spec,
         and a note saying the nominal bench fails.
@@ -265,7 +266,12 @@ def failure_thresholds(evaluator, dofs: Sequence[Dof], search_factor: float = 10
 
 
 def _margin_order(item: Threshold) -> tuple:
-    return (item.margin is None, item.margin if item.margin is not None else 0.0, item.dof.name)
+    # Margins closer than the search's resolution (THRESHOLD_XTOL of the tolerance) are a
+    # tie, ordered by name: otherwise the last bits of the search (a float32 sum in another
+    # order) decide which of two equally sensitive dofs fails first.
+    if item.margin is None:
+        return (True, 0, item.dof.name)
+    return (False, round(item.margin / THRESHOLD_XTOL), item.dof.name)
 
 
 def fails_first(thresholds: Sequence[Threshold]) -> Threshold | None:

@@ -160,3 +160,19 @@ def test_slack_sign_agrees_with_the_spec():
         for value in (-1.0, 0.0, 5e-5, 1e-4, 2e-4, 2e-3, 3e-3, 0.5, 0.95):
             assert (spec_slack(spec, value) >= 0) == spec.passes(value), (spec, value)
     assert spec_slack(specs[0], None) < 0 and spec_slack(specs[0], math.nan) < 0
+
+
+def test_margins_equal_within_the_search_resolution_are_a_tie_ordered_by_name():
+    # Two dofs as sensitive as each other: their thresholds, found to THRESHOLD_XTOL of the
+    # tolerance, differ in the last bits only; the one named first fails first. A difference
+    # larger than that resolution still decides.
+    from benchcheck.tolerance.dofs import Dof
+
+    def threshold(name: str, margin: float) -> Threshold:
+        dof = Dof(name, 1e-4, "uniform", 0.0)
+        return Threshold(dof, margin * dof.limit, 1, "cam.angle", margin)
+
+    tied = [threshold("M1.tilt_y", 0.5 - 2e-15), threshold("M1.tilt_x", 0.5)]
+    assert fails_first(tied).dof.name == "M1.tilt_x"
+    apart = [threshold("M1.tilt_y", 0.4999), threshold("M1.tilt_x", 0.5)]
+    assert fails_first(apart).dof.name == "M1.tilt_y"
