@@ -193,12 +193,8 @@ class WaveSimulator:
                                     f"around '{name}')") from None
             arriving = result.field
             leaving_power = (state["incident_power"] if cells is not None else current.power) * stage.amplitude**2
-            if stage.amplitude != 1.0 and isinstance(arriving, BoxedField):
-                arriving = BoxedField(arriving.box * np.float32(stage.amplitude), arriving.grid, arriving.wavelength,
-                                      arriving.plane, arriving.support)
-            elif stage.amplitude != 1.0 and isinstance(arriving, RowTransformField):
-                arriving = RowTransformField(arriving.lines * np.float32(stage.amplitude), arriving.first, arriving.sign,
-                                             arriving.factor, arriving.grid, arriving.wavelength, arriving.plane)
+            if stage.amplitude != 1.0 and isinstance(arriving, (BoxedField, RowTransformField)):
+                arriving = arriving.scaled(stage.amplitude)  # still without its window
             elif stage.amplitude != 1.0:
                 arriving = Field(arriving.values * np.float32(stage.amplitude), arriving.grid, arriving.wavelength,
                                  arriving.plane, support=arriving.support)

@@ -151,6 +151,10 @@ class BoxedField(Field):
         values[self.support] = self.box
         return values
 
+    def scaled(self, amplitude: float) -> "BoxedField":
+        """The same field times a real ``amplitude`` (float32, as a stage's transmission)."""
+        return BoxedField(self.box * np.float32(amplitude), self.grid, self.wavelength, self.plane, self.support)
+
     @cached_property
     def power(self) -> float:  # noqa: D102 - from the box alone
         from benchcheck.wave.sums import power_sum
@@ -191,7 +195,8 @@ class RowTransformField(Field):
     def __init__(self, lines: np.ndarray, first: int, sign: int, factor: np.ndarray, grid: Grid,
                  wavelength: float, plane: str) -> None:
         if lines.shape[0] != grid.ny or not 0 <= first <= grid.nx - lines.shape[1] or factor.shape != (grid.nx,):
-            raise ValueError(f"lines {lines.shape} from column {first} and factor {factor.shape} do not fit {grid.shape}")
+            raise ValueError(f"lines {lines.shape} from column {first} and factor {factor.shape} "
+                             f"do not fit {grid.shape}")
         modulus = np.abs(factor.astype(np.complex128))
         if modulus.max() - modulus.min() > _ONE_MODULUS * modulus.max():
             raise ValueError("the output factor of a row transform must have one modulus")
@@ -221,6 +226,11 @@ class RowTransformField(Field):
             window = scipy.fft.ifft(window, axis=1, norm="forward", overwrite_x=True, workers=workers)
         window *= self.factor[np.newaxis, :]
         return window
+
+    def scaled(self, amplitude: float) -> "RowTransformField":
+        """The same field times a real ``amplitude`` (float32, as a stage's transmission)."""
+        return RowTransformField(self.lines * np.float32(amplitude), self.first, self.sign, self.factor, self.grid,
+                                 self.wavelength, self.plane)
 
     def rows_power(self, rows: slice = slice(None)) -> float:
         """Σ|values|² over ``rows`` (no sample area), by Parseval along each row."""

@@ -129,3 +129,14 @@ def test_a_study_trial_does_not_transform_the_camera_window(tmp_path):
     full = make_evaluator(layout).evaluate(excursion, wave=True)
     for metric in ("cam.oam_purity", "cam.efficiency"):
         assert trial.metrics[metric] == pytest.approx(full.metrics[metric], rel=1e-6)
+
+
+def test_a_scaled_row_transform_field_is_its_window_scaled():
+    # A stage's transmission scales the held columns, the window is still not made; the
+    # window made afterwards is the original's times the amplitude (float32 rounding: 1e-6).
+    field = _pending(_lines(smooth=False), 1, _factor(0.01))
+    scaled = field.scaled(0.9)
+    assert isinstance(scaled, RowTransformField) and not values_made(scaled)
+    assert scaled.power == pytest.approx(0.81 * field.power, rel=1e-6)
+    peak = np.abs(field.values).max()
+    assert np.allclose(scaled.values, 0.9 * field.values, rtol=0, atol=1e-6 * peak)
