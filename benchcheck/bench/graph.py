@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import functools
 from collections.abc import Iterator
 from dataclasses import dataclass
 
@@ -28,7 +29,15 @@ class Bench:
 
     def path_to(self, name: str) -> list[str]:
         """Plane names from the source to ``name``, both included."""
-        return nx.shortest_path(self.graph, SOURCE, name)
+        path = self._paths.get(name)
+        if path is None:  # not a plane of the bench: networkx says so
+            return nx.shortest_path(self.graph, SOURCE, name)
+        return list(path)
+
+    @functools.cached_property
+    def _paths(self) -> dict[str, tuple[str, ...]]:
+        # the graph is a tree fixed when the bench is built; every trial's stages walk it
+        return {name: tuple(path) for name, path in nx.single_source_shortest_path(self.graph, SOURCE).items()}
 
     def planes(self) -> list[str]:
         """Every element in trace order: depth first from the source, main arm before branches."""

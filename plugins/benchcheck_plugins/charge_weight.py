@@ -139,7 +139,7 @@ def _band_in_box(columns_of, reach_x: int, margin: float, wavenumber_slope_y: fl
     if 2 * reach_y + 1 > grid.ny:
         return None
     box = spectrum[np.arange(-reach_y, reach_y + 1) % grid.ny].astype(np.complex128) / (grid.nx * grid.ny)
-    fx, fy, radius, by_radius = _box_radii(reach_x, reach_y, grid.nx * grid.pitch[0], grid.ny * grid.pitch[1])
+    fx, fy, radius, by_radius = _box_radii(reach_x, reach_y, *_window_size(grid))
     power = (box.real**2 + box.imag**2).ravel()
     tail = np.cumsum(power[by_radius]) / (total / (grid.nx**2 * grid.ny))
     beyond = np.flatnonzero(tail < _DISC_DROP)  # may be dropped, outermost first
@@ -151,6 +151,11 @@ def _band_in_box(columns_of, reach_x: int, margin: float, wavenumber_slope_y: fl
         return None
     box[~disc] = 0
     return FieldBand(box, fx, fy, disc, grid)
+
+
+def _window_size(grid: Grid) -> tuple[float, float]:
+    """(width, height) of the window in m: one period of its sampled spectrum is 1 / pitch."""
+    return grid.nx * grid.pitch[0], grid.ny * grid.pitch[1]
 
 
 @functools.lru_cache(maxsize=64)
@@ -165,6 +170,24 @@ def _box_radii(reach_x: int, reach_y: int, width: float, height: float):
     for array in (fx, fy, radius, by_radius):
         array.flags.writeable = False
     return fx, fy, radius, by_radius
+
+
+@functools.lru_cache(maxsize=64)
+def _box_turn(reach_x: int, reach_y: int, width: float, height: float, charge: int) -> np.ndarray:
+    """exp(−i charge θ) at each frequency of the band box (θ its azimuth): the same for every
+    trial whose band has these reaches (read-only, shared)."""
+    fx, fy, _, _ = _box_radii(reach_x, reach_y, width, height)
+    turn = np.exp(-1j * charge * np.arctan2(fy[:, np.newaxis], fx[np.newaxis, :]))
+    turn.flags.writeable = False
+    return turn
+
+
+@functools.lru_cache(maxsize=64)
+def _lattice_keys(reach_x: int, reach_y: int) -> np.ndarray:
+    """i² + j² at each frequency (i, j steps) of the band box on a square lattice (read-only)."""
+    keys = np.add.outer(np.arange(-reach_y, reach_y + 1) ** 2, np.arange(-reach_x, reach_x + 1) ** 2)
+    keys.flags.writeable = False
+    return keys
 
 
 def _row_transform_spectrum(field: RowTransformField, wavenumber_slope: float):
@@ -289,10 +312,7 @@ def _charge_power_on_lattice(coefficients: np.ndarray, keys: np.ndarray, step: f
     onto another."""
     rho = 2 * math.pi * step * np.sqrt(keys)
     span = int(keys[-1])
-    length = scipy.fft.next_fast_len(2 * span + 1)
-    difference = np.arange(-span, span + 1, dtype=np.float64)
-    difference[span] = np.inf  # 1/∞ = 0: the diagonal is added by the caller
-    kernel = scipy.fft.fft(1.0 / difference, length, workers=1)  # 1/d at index d + K; one line
+    length, kernel = _cauchy_kernel(span)
 
     def cauchy_sums(vectors: np.ndarray) -> np.ndarray:
         laid_out = np.zeros((vectors.shape[1], length), np.complex128)
@@ -303,6 +323,19 @@ def _charge_power_on_lattice(coefficients: np.ndarray, keys: np.ndarray, step: f
         return convolved[:, keys + span].T / (2 * math.pi * step) ** 2
 
     return _lommel_form(coefficients, rho, order, outer, cauchy_sums)
+
+
+@functools.lru_cache(maxsize=64)
+def _cauchy_kernel(span: int) -> tuple[int, np.ndarray]:
+    """(length, the transform of 1/d for d = −span..span at index d + span, 1/0 read as 0):
+    the convolution kernel of ``_charge_power_on_lattice`` for keys up to ``span``
+    (read-only, shared between trials)."""
+    length = scipy.fft.next_fast_len(2 * span + 1)
+    difference = np.arange(-span, span + 1, dtype=np.float64)
+    difference[span] = np.inf  # 1/∞ = 0: the diagonal is added by the caller
+    kernel = scipy.fft.fft(1.0 / difference, length, workers=1)
+    kernel.flags.writeable = False
+    return length, kernel
 
 
 def _lommel_form(coefficients: np.ndarray, rho: np.ndarray, order: int, outer: float, cauchy_sums) -> float:
@@ -336,6 +369,19 @@ def _lag_lattice(shape: tuple[int, int]):
     return iy, ix, half, keys
 
 
+@functools.lru_cache(maxsize=64)
+def _near_lags(shape: tuple[int, int], limit: int):
+    """(flat indices of the half-plane lags with i² + j² ≤ ``limit``, the index of each one's
+    i² + j² among the distinct values, those distinct values) for an autocorrelation of
+    ``shape`` on a square lattice (read-only, shared between trials)."""
+    _, _, half, keys = _lag_lattice(shape)
+    near = np.flatnonzero((keys <= limit) & half)
+    distinct, by_key = np.unique(keys.ravel()[near], return_inverse=True)
+    for array in (near, by_key, distinct):
+        array.flags.writeable = False
+    return near, by_key, distinct
+
+
 def _disc_power(box: np.ndarray, frequency_step: tuple[float, float], reach: float, outer: float) -> float:
     """∫ over the disc of radius R about the axis of |E|²: Σ_q A_q D(|q|) over the lags q of
     the band's autocorrelation A (Wiener–Khinchin: the inverse transform of |transform|²
@@ -352,15 +398,13 @@ def _disc_power(box: np.ndarray, frequency_step: tuple[float, float], reach: flo
     # half of it by irfft2
     spectrum += np.roll(spectrum[::-1, ::-1], 1, axis=(0, 1))
     lags = scipy.fft.irfft2(spectrum[:, : shape[1] // 2 + 1], s=shape, workers=workers) / 2
-    iy, ix, half, keys = _lag_lattice(shape)
     step = _common_step(frequency_step)
     if step is not None:
-        near = (keys <= (2 * reach / step) ** 2 * (1 + 1e-12)) & half
-        by_key = np.bincount(keys[near], weights=lags[near])
-        distinct = np.flatnonzero(np.bincount(keys[near]))
+        near, by_key, distinct = _near_lags(shape, math.floor((2 * reach / step) ** 2 * (1 + 1e-12)))
         q = step * np.sqrt(distinct)
-        near_lags = by_key[distinct]
+        near_lags = np.bincount(by_key, weights=lags.ravel()[near])
     else:
+        iy, ix, half, _ = _lag_lattice(shape)
         q_all = np.hypot(ix * frequency_step[0], iy * frequency_step[1])
         near = (q_all <= 2 * reach * (1 + 1e-12)) & half
         q, near_lags = q_all[near], lags[near]
@@ -375,20 +419,17 @@ def charge_weight(band: FieldBand, axis: tuple[float, float], charge: int, outer
     grid = band.grid
     box = band.box * np.exp(2j * math.pi * band.fx * (axis[0] - grid.x[0]))[np.newaxis, :]
     box *= np.exp(2j * math.pi * band.fy * (axis[1] - grid.y[0]))[:, np.newaxis]
-    fx_all, fy_all = np.meshgrid(band.fx, band.fy)
-    amplitudes = box[band.disc]
-    theta = np.arctan2(fy_all[band.disc], fx_all[band.disc])
-    turned = amplitudes * np.exp(-1j * charge * theta)
+    turned = box[band.disc] * _box_turn(band.fx.size // 2, band.fy.size // 2, *_window_size(grid), charge)[band.disc]
     steps = (1.0 / (grid.nx * grid.pitch[0]), 1.0 / (grid.ny * grid.pitch[1]))
     step = _common_step(steps)
     if step is not None:  # radii √(i² + j²) steps: grouped exactly by the integer i² + j²
-        ix, iy = np.rint(band.fx / step).astype(np.int64), np.rint(band.fy / step).astype(np.int64)
-        keys = np.add.outer(iy * iy, ix * ix)[band.disc]
+        keys = _lattice_keys(band.fx.size // 2, band.fy.size // 2)[band.disc]
         coefficients = (np.bincount(keys, weights=turned.real) + 1j * np.bincount(keys, weights=turned.imag))
         distinct = np.flatnonzero(np.bincount(keys))
         in_charge = _charge_power_on_lattice(coefficients[distinct], distinct, step, charge, outer)
         reach = step * math.sqrt(distinct[-1])
     else:
+        fx_all, fy_all = np.meshgrid(band.fx, band.fy)
         rho = 2 * math.pi * np.hypot(fx_all[band.disc], fy_all[band.disc])
         groups, radii = _radial_groups(rho)
         coefficients = (np.bincount(groups, weights=turned.real, minlength=radii.size)

@@ -7,6 +7,8 @@ than ``DROPPED_SPECTRAL_POWER`` of the power and drop the rest.
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 import scipy.fft
 
@@ -40,7 +42,14 @@ def reach_index(power: np.ndarray, n: int) -> int:
     total = power.sum()
     if not total > 0:
         return 0  # a dark field: nothing reaches out
-    order = np.abs(scipy.fft.fftfreq(n, 1.0 / n)).astype(np.int64)  # |frequency index|
-    by_reach = np.bincount(order, weights=power, minlength=n // 2 + 1)
+    by_reach = np.bincount(_reach_of_index(n), weights=power, minlength=n // 2 + 1)
     tail = np.cumsum(by_reach[::-1])[::-1] / total  # share at |index| >= k
     return int(np.flatnonzero(tail >= DROPPED_SPECTRAL_POWER / 2)[-1])
+
+
+@functools.lru_cache(maxsize=16)
+def _reach_of_index(n: int) -> np.ndarray:
+    """|frequency index| of each of ``n`` samples in natural FFT order (read-only, shared)."""
+    reach = np.abs(scipy.fft.fftfreq(n, 1.0 / n)).astype(np.int64)
+    reach.flags.writeable = False
+    return reach
