@@ -274,7 +274,8 @@ def _outcome(metric: Metric, context: MetricContext, value: Any, error: BaseExce
         return outcome(
             None,
             f"metric '{metric.name}' from plugin '{metric.plugin}' did not finish within {time_limit:g} s at "
-            f"plane '{context.plane}' (abandoned; its thread may still be running)",
+            f"plane '{context.plane}' "
+            f"({'stopped' if error.stopped else 'abandoned; its thread may still be running'})",
         )
     if isinstance(error, MetricUnavailable):
         return outcome(None, f"metric '{metric.name}' is unavailable at plane '{context.plane}': {error}")
@@ -315,7 +316,8 @@ def evaluate_metrics(
         What the metrics may read at this plane.
     time_limit : float, optional
         Seconds each metric may take; a metric still running then is recorded as failed and
-        abandoned (its thread cannot be stopped and keeps running in the background). When
+        stopped by a timer signal on the main thread, elsewhere abandoned (its helper thread
+        cannot be stopped and keeps running in the background; metric_watchdog.py). When
         omitted: ``context.options["metric_time_limit"]`` (a ``[[spec]]`` option) or
         ``DEFAULT_METRIC_TIME_LIMIT``; ``math.inf`` runs the metrics on the calling thread.
 
@@ -335,7 +337,7 @@ def evaluate_metrics(
     if time_limit is None:
         time_limit = float(context.options.get(TIME_LIMIT_OPTION, DEFAULT_METRIC_TIME_LIMIT))
     runnable = [metric for metric in metrics if not (metric.needs_field and context.field is None)]
-    # one hand-over to the helper thread for all of them (metric_watchdog.py)
+    # each under the timer signal here, or one hand-over to a helper thread (metric_watchdog.py)
     answers = iter(run_each_with_time_limit([functools.partial(metric.compute, context) for metric in runnable],
                                             time_limit))
     outcomes = []

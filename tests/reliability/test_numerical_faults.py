@@ -3,6 +3,7 @@ NaN or hang are named, and the study finishes."""
 
 from __future__ import annotations
 
+import signal
 import threading
 import time
 
@@ -117,13 +118,9 @@ def test_time_limit_argument_and_a_metric_that_raises_timeout_itself():
     assert fast[0].value == 1.0
 
 
-def test_the_metrics_of_a_plane_share_one_helper_and_one_that_hangs_leaves_the_rest():
-    # The metrics of one plane go to the helper thread in one hand-over, each within its own
-    # limit (common practice for a watchdog). One that hangs is abandoned: the metric after
-    # it runs on a fresh helper, and the abandoned helper, once free, runs nothing more.
-    release = threading.Event()
-    ran: dict[str, list] = {}
-
+def _recording_registry(ran: dict, release: threading.Event) -> MetricRegistry:
+    """Metrics "before", "hangs" (waits for ``release``) and "after", each noting the thread
+    it ran on in ``ran``."""
     def recording(name, value, wait=False):
         def compute(context):
             ran.setdefault(name, []).append(threading.current_thread())
@@ -137,14 +134,104 @@ def test_the_metrics_of_a_plane_share_one_helper_and_one_that_hangs_leaves_the_r
     registry.add(Metric("before", recording("before", 1.0), **common), "test_plugin")
     registry.add(Metric("hangs", recording("hangs", 0.0, wait=True), **common), "test_plugin")
     registry.add(Metric("after", recording("after", 2.0), **common), "test_plugin")
-    outcomes = evaluate_metrics(registry, ["before", "hangs", "after"], MetricContext("p", 1e-6), time_limit=0.2)
+    return registry
+
+
+def test_off_the_main_thread_the_metrics_share_one_helper_and_one_that_hangs_leaves_the_rest():
+    # Off the main thread (a dask worker's thread) there is no timer signal: the metrics of
+    # one plane go to the helper thread in one hand-over, each within its own limit (common
+    # practice for a watchdog). One that hangs is abandoned: the metric after it runs on a
+    # fresh helper, and the abandoned helper, once free, runs nothing more.
+    release = threading.Event()
+    ran: dict[str, list] = {}
+    registry = _recording_registry(ran, release)
+    result = {}
+
+    def caller():
+        result["outcomes"] = evaluate_metrics(registry, ["before", "hangs", "after"], MetricContext("p", 1e-6),
+                                              time_limit=0.2)
+
+    thread = threading.Thread(target=caller)
+    thread.start()
+    thread.join(10)
+    outcomes = result["outcomes"]
     assert [outcome.value for outcome in outcomes] == [1.0, None, 2.0]
     assert "'hangs' from plugin 'test_plugin' did not finish within 0.2 s" in outcomes[1].error
     release.set()
     time.sleep(0.1)  # the abandoned call returns; its helper must then stop, not run "after" again
     assert {name: len(threads) for name, threads in ran.items()} == {"before": 1, "hangs": 1, "after": 1}
-    assert ran["before"][0] is ran["hangs"][0] is not threading.current_thread()
+    assert ran["before"][0] is ran["hangs"][0] is not thread
     assert ran["after"][0] is not ran["hangs"][0]
+
+
+def test_on_the_main_thread_a_metric_that_hangs_is_stopped_by_the_timer_signal():
+    # On the main thread each metric runs on the caller under SIGALRM (signal.setitimer):
+    # past its limit the signal stops it where it waits, and no thread is left behind.
+    release = threading.Event()
+    ran: dict[str, list] = {}
+    registry = _recording_registry(ran, release)
+    threads_before = threading.active_count()
+    started = time.monotonic()
+    outcomes = evaluate_metrics(registry, ["before", "hangs", "after"], MetricContext("p", 1e-6), time_limit=0.2)
+    assert time.monotonic() - started < 2  # the 5 s wait was cut short
+    assert [outcome.value for outcome in outcomes] == [1.0, None, 2.0]
+    assert "'hangs' from plugin 'test_plugin' did not finish within 0.2 s" in outcomes[1].error
+    assert all(threads == [threading.main_thread()] for threads in ran.values())
+    assert threading.active_count() == threads_before
+    assert signal.getitimer(signal.ITIMER_REAL) == (0.0, 0.0)  # disarmed
+
+
+def test_the_timer_stops_a_busy_loop_that_swallows_the_first_signal_and_passes_ctrl_c_on():
+    # A pure-Python loop that catches everything, even the first signal, is stopped by a
+    # later one (the timer fires again every _REFIRE_S) and still counts as overrun. What is
+    # not an Exception is not the metric's to lose, as from the helper thread: Ctrl-C and
+    # SystemExit during a metric stop the caller.
+    def stubborn(context):
+        caught = 0
+        while caught < 2:
+            try:
+                while True:
+                    pass
+            except BaseException:  # noqa: BLE001 - the misbehaviour under test
+                caught += 1
+        return 1.0
+
+    def exits(context):
+        raise SystemExit(3)
+
+    def interrupted(context):
+        raise KeyboardInterrupt
+
+    registry = MetricRegistry()
+    common = dict(needs_field=False, unit="", description="test", source="none (a test fixture)")
+    for name, compute in (("stubborn", stubborn), ("exits", exits), ("interrupted", interrupted)):
+        registry.add(Metric(name, compute, **common), "test_plugin")
+    (loop,) = evaluate_metrics(registry, ["stubborn"], MetricContext("p", 1e-6), time_limit=0.1)
+    assert loop.value is None and "did not finish within 0.1 s" in loop.error and "(stopped)" in loop.error
+    for name, error in (("exits", SystemExit), ("interrupted", KeyboardInterrupt)):
+        with pytest.raises(error):
+            evaluate_metrics(registry, [name], MetricContext("p", 1e-6), time_limit=5)
+    assert signal.getitimer(signal.ITIMER_REAL) == (0.0, 0.0)
+
+
+def test_someone_elses_timer_signal_is_left_alone():
+    # Where SIGALRM already has another handler (a test runner's time-out, say), the metrics
+    # go to the helper thread and the handler is kept.
+    def theirs(signum, frame):
+        raise AssertionError("their alarm")
+
+    release = threading.Event()
+    ran: dict[str, list] = {}
+    registry = _recording_registry(ran, release)
+    previous = signal.signal(signal.SIGALRM, theirs)
+    try:
+        outcomes = evaluate_metrics(registry, ["before", "hangs"], MetricContext("p", 1e-6), time_limit=0.1)
+        assert signal.getsignal(signal.SIGALRM) is theirs
+    finally:
+        signal.signal(signal.SIGALRM, previous)
+        release.set()
+    assert [outcome.value for outcome in outcomes] == [1.0, None]
+    assert ran["before"][0] is not threading.main_thread()
 
 
 def test_each_metric_of_a_plane_has_its_own_time_limit_not_the_batch():

@@ -47,10 +47,12 @@ def test_a_trial_runs_its_simulation_with_blas_on_one_thread(tmp_path, monkeypat
 
 
 @pytest.mark.parametrize("workers", [1, 2])
-def test_metrics_transform_on_as_many_threads_as_the_trial(tmp_path, monkeypatch, workers):
+@pytest.mark.parametrize("caller", ["main thread", "other thread"])
+def test_metrics_transform_on_as_many_threads_as_the_trial(tmp_path, monkeypatch, workers, caller):
     # A worker process runs its trials' transforms on one thread (the parallelism is across
     # trials; FFT threads on top oversubscribe the cores, common practice); a study in one
-    # process uses all cores. The metrics run on a helper thread (metric_watchdog.py), and
+    # process uses all cores. On the main thread the metrics run on it (metric_watchdog.py,
+    # under the timer signal); called from another thread they run on a helper thread, and
     # scipy.fft's default thread count is per thread: the trial's count must reach them.
     path = tmp_path / "relay.toml"
     path.write_text(scaled_relay_text(128))
@@ -64,10 +66,24 @@ def test_metrics_transform_on_as_many_threads_as_the_trial(tmp_path, monkeypatch
         return band(*args, **kwargs)
 
     monkeypatch.setattr(oam_purity_module, "field_band", watched)
-    assert "cam.oam_purity" in evaluator.evaluate(wave=True).metrics
+    result, callers = {}, []
+
+    def evaluate():
+        callers.append(threading.current_thread())
+        result["metrics"] = evaluator.evaluate(wave=True).metrics
+        result["default after"] = fft_workers()
+
+    if caller == "main thread":
+        evaluate()
+    else:
+        thread = threading.Thread(target=evaluate)
+        thread.start()
+        thread.join()
+    assert "cam.oam_purity" in result["metrics"]
     assert seen and all(count == workers for count, _ in seen)
-    assert all(thread is not threading.current_thread() for _, thread in seen)  # on the helper
-    assert fft_workers() == 1  # the caller's own default is left as it was
+    on_caller = [thread is callers[0] for _, thread in seen]
+    assert all(on_caller) if caller == "main thread" else not any(on_caller)  # else on the helper
+    assert result["default after"] == 1  # the caller's own default is left as it was
 
 
 def test_small_transforms_run_on_one_thread_and_large_ones_on_the_trials_count():
