@@ -66,6 +66,12 @@ _BOX_TOO_SMALL = object()
 # out: 1.1e-6; 1e-12: 3e-8, on an LG mode cut at 1.5 waists). So the disc is cut far below
 # the band's own share, which costs a few more frequencies only (a fifth more on that mode).
 _DISC_DROP = 1e-12
+# The Cauchy kernel of the lattice sums reaches out to a multiple of this (in i² + j²), so
+# that trials whose bands differ a little share it (a few percent longer transforms).
+_KERNEL_CLASS = 256
+# The autocorrelation of the band is padded to a multiple of this on each axis (then a fast
+# length), so that trials whose bands differ a little share its lag tables.
+_LAG_CLASS = 32
 # Radii |f| closer than this (relative to the largest) are one radius: merging them moves a
 # Bessel value by at most this times ρR (≲ 10³ here), 1e-6 at worst, and it keeps the a ≠ b
 # formula away from near-equal radii, where its cancellation would lose ~log10(1/this) digits.
@@ -139,55 +145,64 @@ def _band_in_box(columns_of, reach_x: int, margin: float, wavenumber_slope_y: fl
     if 2 * reach_y + 1 > grid.ny:
         return None
     box = spectrum[np.arange(-reach_y, reach_y + 1) % grid.ny].astype(np.complex128) / (grid.nx * grid.ny)
-    fx, fy, radius, by_radius = _box_radii(reach_x, reach_y, *_window_size(grid))
-    power = (box.real**2 + box.imag**2).ravel()
-    tail = np.cumsum(power[by_radius]) / (total / (grid.nx**2 * grid.ny))
-    beyond = np.flatnonzero(tail < _DISC_DROP)  # may be dropped, outermost first
-    if beyond.size == 0:
+    width, height = grid.nx * grid.pitch[0], grid.ny * grid.pitch[1]
+    fx, fy = np.arange(-reach_x, reach_x + 1) / width, np.arange(-reach_y, reach_y + 1) / height
+    power = box.real**2 + box.imag**2
+    share = total / (grid.nx**2 * grid.ny)  # Σ|S / (Nx Ny)|² over the whole spectrum
+    if _common_step((1 / width, 1 / height)) is not None:  # radii grouped by the integer i² + j²
+        radius = _square_lattice(reach_x, reach_y)[0]
+        by_radius = np.bincount(radius.ravel(), weights=power.ravel())  # power at each i² + j²
+        radii = np.arange(by_radius.size)
+    else:  # one sample a group, in order of |f|
+        radius = np.hypot(fx[np.newaxis, :], fy[:, np.newaxis])
+        order = np.argsort(radius.ravel(), kind="stable")
+        by_radius, radii = power.ravel()[order], radius.ravel()[order]
+    if power[-1, -1] / share >= _DISC_DROP:  # not even the box's outermost frequency (a corner)
         return _BOX_TOO_SMALL
-    outermost = radius.ravel()[by_radius[beyond[-1] + 1]] if beyond.size < power.size else 0.0
-    disc = radius <= outermost
+    tail = np.cumsum(by_radius[::-1]) / share  # power beyond each radius and at it, outermost first
+    kept = np.flatnonzero(tail >= _DISC_DROP)  # radii that may not be dropped
+    disc = radius <= (radii[-1 - kept[0]] if kept.size else 0)
     if np.count_nonzero(disc) > _MAX_FREQUENCIES:
         return None
     box[~disc] = 0
     return FieldBand(box, fx, fy, disc, grid)
 
 
-def _window_size(grid: Grid) -> tuple[float, float]:
-    """(width, height) of the window in m: one period of its sampled spectrum is 1 / pitch."""
-    return grid.nx * grid.pitch[0], grid.ny * grid.pitch[1]
+def _square_lattice(reach_x: int, reach_y: int) -> tuple[np.ndarray, np.ndarray]:
+    """(i² + j², azimuth atan2(j, i)) at the frequency steps (i, j), |i| ≤ reach_x and
+    |j| ≤ reach_y, of a square lattice: read-only views into one lattice per size class,
+    the same for every trial (a trial's reaches vary a little, its lattice's class not)."""
+    size = _lattice_size(max(reach_x, reach_y))
+    keys, azimuth = _square_lattice_of(size)
+    rows, columns = slice(size - reach_y, size + reach_y + 1), slice(size - reach_x, size + reach_x + 1)
+    return keys[rows, columns], azimuth[rows, columns]
 
 
-@functools.lru_cache(maxsize=64)
-def _box_radii(reach_x: int, reach_y: int, width: float, height: float):
-    """(fx, fy, |f| on the box, its flat indices from the outermost radius in) for a band
-    box of columns −reach_x..reach_x and rows −reach_y..reach_y of a window width x height
-    (m): the same for every trial whose band has these reaches (read-only, shared)."""
-    fx = np.arange(-reach_x, reach_x + 1) / width
-    fy = np.arange(-reach_y, reach_y + 1) / height
-    radius = np.hypot(fx[np.newaxis, :], fy[:, np.newaxis])
-    by_radius = np.argsort(radius.ravel(), kind="stable")[::-1]  # outermost first
-    for array in (fx, fy, radius, by_radius):
+def _square_turn(reach_x: int, reach_y: int, charge: int) -> np.ndarray:
+    """exp(−i charge θ) at the frequencies of ``_square_lattice`` (a read-only view)."""
+    size = _lattice_size(max(reach_x, reach_y))
+    return _square_turn_of(size, charge)[size - reach_y:size + reach_y + 1, size - reach_x:size + reach_x + 1]
+
+
+def _lattice_size(reach: int) -> int:
+    return 1 << max(reach, 1).bit_length()  # the next power of two above the reach
+
+
+@functools.lru_cache(maxsize=8)
+def _square_lattice_of(size: int) -> tuple[np.ndarray, np.ndarray]:
+    steps = np.arange(-size, size + 1)
+    keys = np.add.outer(steps**2, steps**2)
+    azimuth = np.arctan2(steps[:, np.newaxis].astype(np.float64), steps[np.newaxis, :].astype(np.float64))
+    for array in (keys, azimuth):
         array.flags.writeable = False
-    return fx, fy, radius, by_radius
+    return keys, azimuth
 
 
-@functools.lru_cache(maxsize=64)
-def _box_turn(reach_x: int, reach_y: int, width: float, height: float, charge: int) -> np.ndarray:
-    """exp(−i charge θ) at each frequency of the band box (θ its azimuth): the same for every
-    trial whose band has these reaches (read-only, shared)."""
-    fx, fy, _, _ = _box_radii(reach_x, reach_y, width, height)
-    turn = np.exp(-1j * charge * np.arctan2(fy[:, np.newaxis], fx[np.newaxis, :]))
+@functools.lru_cache(maxsize=8)
+def _square_turn_of(size: int, charge: int) -> np.ndarray:
+    turn = np.exp(-1j * charge * _square_lattice_of(size)[1])
     turn.flags.writeable = False
     return turn
-
-
-@functools.lru_cache(maxsize=64)
-def _lattice_keys(reach_x: int, reach_y: int) -> np.ndarray:
-    """i² + j² at each frequency (i, j steps) of the band box on a square lattice (read-only)."""
-    keys = np.add.outer(np.arange(-reach_y, reach_y + 1) ** 2, np.arange(-reach_x, reach_x + 1) ** 2)
-    keys.flags.writeable = False
-    return keys
 
 
 def _row_transform_spectrum(field: RowTransformField, wavenumber_slope: float):
@@ -308,10 +323,10 @@ def _charge_power_on_lattice(coefficients: np.ndarray, keys: np.ndarray, step: f
     distinct integers ``keys``): ρ_g² − ρ_h² = (2π step)² (k_g − k_h), so the Cauchy sums are
     one convolution of the vectors, laid out by k, with 1/d: about K log K operations for
     keys up to K, not the square of their number. The differences d = k_g − k_h lie in
-    [−K, K], so a cyclic convolution (scipy.fft) of length 2K + 1 or more wraps none of them
-    onto another."""
+    [−K, K]; with the kernel taken out to S ≥ K (K rounded up to ``_KERNEL_CLASS``) a cyclic
+    convolution (scipy.fft) of length 2S + 1 or more wraps none of them onto another."""
     rho = 2 * math.pi * step * np.sqrt(keys)
-    span = int(keys[-1])
+    span = -(-int(keys[-1]) // _KERNEL_CLASS) * _KERNEL_CLASS  # the same kernel for nearby trials
     length, kernel = _cauchy_kernel(span)
 
     def cauchy_sums(vectors: np.ndarray) -> np.ndarray:
@@ -369,17 +384,23 @@ def _lag_lattice(shape: tuple[int, int]):
     return iy, ix, half, keys
 
 
-@functools.lru_cache(maxsize=64)
-def _near_lags(shape: tuple[int, int], limit: int):
-    """(flat indices of the half-plane lags with i² + j² ≤ ``limit``, the index of each one's
-    i² + j² among the distinct values, those distinct values) for an autocorrelation of
-    ``shape`` on a square lattice (read-only, shared between trials)."""
+@functools.lru_cache(maxsize=16)
+def _lags_by_key(shape: tuple[int, int]):
+    """(flat indices of the half-plane lags in order of i² + j², those i² + j², the index of
+    each among the distinct values, the distinct values) for an autocorrelation of ``shape``
+    on a square lattice; the lags out to a radius are a prefix (read-only, shared). Within
+    one i² + j² the lags keep their flat order, so the sums over them are those of a
+    bincount over the whole array."""
     _, _, half, keys = _lag_lattice(shape)
-    near = np.flatnonzero((keys <= limit) & half)
-    distinct, by_key = np.unique(keys.ravel()[near], return_inverse=True)
-    for array in (near, by_key, distinct):
+    flat = np.flatnonzero(half)
+    order = flat[np.argsort(keys.ravel()[flat], kind="stable")]
+    sorted_keys = keys.ravel()[order]
+    starts = np.concatenate([[True], sorted_keys[1:] != sorted_keys[:-1]])
+    by_key = np.cumsum(starts) - 1
+    distinct = sorted_keys[starts]
+    for array in (order, sorted_keys, by_key, distinct):
         array.flags.writeable = False
-    return near, by_key, distinct
+    return order, sorted_keys, by_key, distinct
 
 
 def _disc_power(box: np.ndarray, frequency_step: tuple[float, float], reach: float, outer: float) -> float:
@@ -388,7 +409,8 @@ def _disc_power(box: np.ndarray, frequency_step: tuple[float, float], reach: flo
     of the zero-padded box; no lag wraps round), only lags up to twice the band's reach
     (``reach``, 1/m) carry any. On a square lattice D is taken once per distinct |q|
     (the lags summed by i² + j² first)."""
-    shape = tuple(scipy.fft.next_fast_len(2 * size - 1) for size in box.shape)
+    # at least 2n − 1 long (no lag wraps round), rounded up to a class shared between trials
+    shape = tuple(scipy.fft.next_fast_len(-(-(2 * size - 1) // _LAG_CLASS) * _LAG_CLASS) for size in box.shape)
     # zero-padded along x on the box's rows only, then along y
     workers = fft_workers(box.itemsize * shape[0] * shape[1])  # by the padded size
     padded = scipy.fft.fft(scipy.fft.fft(box, n=shape[1], axis=1, workers=workers), n=shape[0], axis=0,
@@ -400,9 +422,10 @@ def _disc_power(box: np.ndarray, frequency_step: tuple[float, float], reach: flo
     lags = scipy.fft.irfft2(spectrum[:, : shape[1] // 2 + 1], s=shape, workers=workers) / 2
     step = _common_step(frequency_step)
     if step is not None:
-        near, by_key, distinct = _near_lags(shape, math.floor((2 * reach / step) ** 2 * (1 + 1e-12)))
-        q = step * np.sqrt(distinct)
-        near_lags = np.bincount(by_key, weights=lags.ravel()[near])
+        order, sorted_keys, by_key, distinct = _lags_by_key(shape)
+        count = int(np.searchsorted(sorted_keys, (2 * reach / step) ** 2 * (1 + 1e-12), side="right"))
+        near_lags = np.bincount(by_key[:count], weights=lags.ravel()[order[:count]])
+        q = step * np.sqrt(distinct[:near_lags.size])
     else:
         iy, ix, half, _ = _lag_lattice(shape)
         q_all = np.hypot(ix * frequency_step[0], iy * frequency_step[1])
@@ -419,17 +442,19 @@ def charge_weight(band: FieldBand, axis: tuple[float, float], charge: int, outer
     grid = band.grid
     box = band.box * np.exp(2j * math.pi * band.fx * (axis[0] - grid.x[0]))[np.newaxis, :]
     box *= np.exp(2j * math.pi * band.fy * (axis[1] - grid.y[0]))[:, np.newaxis]
-    turned = box[band.disc] * _box_turn(band.fx.size // 2, band.fy.size // 2, *_window_size(grid), charge)[band.disc]
+    reach_x, reach_y = band.fx.size // 2, band.fy.size // 2
     steps = (1.0 / (grid.nx * grid.pitch[0]), 1.0 / (grid.ny * grid.pitch[1]))
     step = _common_step(steps)
     if step is not None:  # radii √(i² + j²) steps: grouped exactly by the integer i² + j²
-        keys = _lattice_keys(band.fx.size // 2, band.fy.size // 2)[band.disc]
+        turned = box[band.disc] * _square_turn(reach_x, reach_y, charge)[band.disc]
+        keys = _square_lattice(reach_x, reach_y)[0][band.disc]
         coefficients = (np.bincount(keys, weights=turned.real) + 1j * np.bincount(keys, weights=turned.imag))
         distinct = np.flatnonzero(np.bincount(keys))
         in_charge = _charge_power_on_lattice(coefficients[distinct], distinct, step, charge, outer)
         reach = step * math.sqrt(distinct[-1])
     else:
         fx_all, fy_all = np.meshgrid(band.fx, band.fy)
+        turned = box[band.disc] * np.exp(-1j * charge * np.arctan2(fy_all[band.disc], fx_all[band.disc]))
         rho = 2 * math.pi * np.hypot(fx_all[band.disc], fy_all[band.disc])
         groups, radii = _radial_groups(rho)
         coefficients = (np.bincount(groups, weights=turned.real, minlength=radii.size)
