@@ -100,9 +100,11 @@ def stage_between(realization: Realization, trace: TraceResult, start: str, end:
             matrices_y.append(gap)
         if name == end:
             break
-        beam = trace.plane(name)
-        action = wave_action(element, wavelength, IncomingBeam(beam.w, beam.offset, beam.angle),
-                             (plugin_matrices or {}).get(element.type))
+        action = trace.actions.get(name) if element.type != "modulator" else None  # the trace's matrices
+        if action is None:
+            beam = trace.plane(name)
+            action = wave_action(element, wavelength, IncomingBeam(beam.w, beam.offset, beam.angle),
+                                 (plugin_matrices or {}).get(element.type))
         following = realization.element(names[index + 1])
         if action.arm_matrices and following.arm in action.arm_matrices:
             matrix_x, matrix_y, _ = action.arm_matrices[following.arm]

@@ -17,7 +17,7 @@ import numpy as np
 from benchcheck.bench.graph import SOURCE, Bench
 from benchcheck.bench.realization import Realization
 from benchcheck.layout.model import MAIN_ARM, Layout
-from benchcheck.optics.element_actions import IncomingBeam, act, hologram_deflection, wave_action
+from benchcheck.optics.element_actions import Action, IncomingBeam, act, hologram_deflection, wave_action
 from benchcheck.optics.gaussian import (
     beam_radius,
     distance_past_waist,
@@ -93,6 +93,9 @@ class TraceResult:
     layout: Layout
     planes: tuple[PlaneBeam, ...]
     notes: tuple[str, ...] = ()
+    #: Each element's action as the trace applied it (its matrices do not depend on the
+    #: beam), for the wave stages to compose without acting again.
+    actions: Mapping[str, Action] = field(default_factory=dict, repr=False, compare=False)
 
     def plane(self, name: str) -> PlaneBeam:
         for plane in self.planes:
@@ -189,6 +192,7 @@ def trace_realization(
     notes: list[str] = []
     # Output of each plane per arm: (z, states, transmission, zero-order states or None)
     outputs: dict[tuple[str, str], tuple] = {(SOURCE, MAIN_ARM): (0.0, start, 1.0, None)}
+    actions: dict[str, Action] = {}
     for name in bench.planes():
         element = realization.element(name)
         predecessor = next(iter(bench.graph.predecessors(name)))
@@ -202,7 +206,7 @@ def trace_realization(
             slope=(arriving[0].slope, arriving[1].slope),
         )
         plugin = (plugin_matrices or {}).get(element.type)
-        action = act(element, wavelength, incoming, plugin)
+        action = actions[name] = act(element, wavelength, incoming, plugin)
         leaving = [_through(arriving[0], action.matrix_x), _through(arriving[1], action.matrix_y)]
         zero_leaving = _zero_order(element, wavelength, incoming, arriving, zero_arriving, action, plugin)
         blocked = _blocked_share(element, action.passed)
@@ -218,7 +222,7 @@ def trace_realization(
             zero_branch = [_through(zero_arriving[0], matrix_x), _through(zero_arriving[1], matrix_y)] \
                 if zero_arriving else None
             outputs[(name, arm)] = (element.z, branch, transmission * passed, zero_branch)
-    return TraceResult(layout=bench.layout, planes=tuple(planes), notes=tuple(notes))
+    return TraceResult(layout=bench.layout, planes=tuple(planes), notes=tuple(notes), actions=actions)
 
 
 def _zero_order(element, wavelength, incoming, arriving, zero_arriving, action, plugin):

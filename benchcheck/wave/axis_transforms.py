@@ -181,15 +181,14 @@ def fourier_parts(ax: AxisPlan, wavelength: float):
         ax.n_out % ax.n_in == 0 and abs(ax.pitch_out - wavelength * abs(ax.b) / (ax.n_in * ax.pitch_in)) <= SAME_GRID * ax.pitch_out
     )
     alpha = np.sign(ax.b) / ax.n_in if fft_path else ax.pitch_in * ax.pitch_out / lam_b
-    index_in, index_out = np.arange(ax.n_in), np.arange(ax.n_out)
     middle_in, middle_out = ax.n_in // 2, ax.n_out // 2
-    x1 = ax.center_in + (index_in - middle_in) * ax.pitch_in
+    x1 = ax.center_in + _steps_from(ax.n_in, middle_in) * ax.pitch_in
     center_aligned = ax.center_out - ax.e
-    x2 = center_aligned + (index_out - middle_out) * ax.pitch_out  # aligned output coordinates
+    x2 = center_aligned + _steps_from(ax.n_out, middle_out) * ax.pitch_out  # aligned output coordinates
     phase_in = np.pi * (ax.a * x1**2 - 2.0 * x1 * center_aligned) / lam_b
-    phase_in += 2.0 * np.pi * ((alpha * middle_out * index_in) % 1.0)
+    phase_in += _index_phase(alpha * middle_out, ax.n_in, 0)
     phase_out = np.pi * (ax.d * x2**2 - 2.0 * ax.center_in * (x2 - center_aligned)) / lam_b
-    phase_out += 2.0 * np.pi * ((alpha * middle_in * (index_out - middle_out)) % 1.0)
+    phase_out += _index_phase(alpha * middle_in, ax.n_out, middle_out)
     phase_out += (2.0 * np.pi / wavelength) * ax.f * (x2 + ax.e / 2.0)
     prefactor = ax.pitch_in / np.sqrt(1j * lam_b)
     factor_in, factor_out, frequency = np.exp(1j * phase_in), prefactor * np.exp(1j * phase_out), x2 / lam_b
@@ -198,18 +197,34 @@ def fourier_parts(ax: AxisPlan, wavelength: float):
     return factor_in, factor_out, alpha, fft_path, frequency
 
 
-@functools.lru_cache(maxsize=64)
-def cell_weights(ax: AxisPlan, wavelength: float, pitch: float, fill: float, dtype_name: str):
+@functools.lru_cache(maxsize=16)
+def _steps_from(n: int, middle: int) -> np.ndarray:
+    """k − middle for k < n (read-only, shared)."""
+    steps = np.arange(n) - middle
+    steps.flags.writeable = False
+    return steps
+
+
+@functools.lru_cache(maxsize=16)
+def _index_phase(rate: float, n: int, middle: int) -> np.ndarray:
+    """2π ((rate (k − middle)) mod 1) for k < n: on the FFT path the shift of the DFT's index
+    origin, the same for every trial (read-only, shared)."""
+    phase = 2.0 * np.pi * ((rate * _steps_from(n, middle)) % 1.0)
+    phase.flags.writeable = False
+    return phase
+
+
+def cell_weights(ax: AxisPlan, wavelength: float, pitch: float, fill: float, dtype_name: str,
+                 keep: slice = slice(None)):
     """Per-axis (aperture weight × output factor, central-period mask × output factor or None
-    when the mask is 1 everywhere) of the pixel-cell Fourier branch, in the field's precision."""
+    when the mask is 1 everywhere) of the pixel-cell Fourier branch on the output samples
+    ``keep``, in the field's precision (made per stage: a trial's axis plan is its own)."""
     _, factor_out, _, _, frequency = fourier_parts(ax, wavelength)
+    frequency, factor_out = frequency[keep], factor_out[keep]
     dtype = np.dtype(dtype_name)
     aperture = (aperture_weight(frequency, pitch, fill) * factor_out).astype(dtype)
     mask = central_period_mask(frequency, pitch)
     background = None if mask.all() else (mask * factor_out).astype(dtype)
-    for array in (aperture, background):
-        if array is not None:
-            array.flags.writeable = False
     return aperture, background
 
 

@@ -376,9 +376,9 @@ def _cells_fourier(field: Field, axes, cells: PixelCells, dtype, workers: int, n
                                            fft_path, workers).ravel()[keep[ax.axis]]
     dtype_name = np.dtype(dtype).name
     for ax, pitch, fill in zip(axes, cells.pitch, cells.fill_factor):
-        aperture, central = cell_weights(ax, wavelength, pitch, fill, dtype_name)
-        pixel_term *= along_axis(aperture[keep[ax.axis]], ax.axis)
-        weight = (by_axis[ax.axis][1].astype(dtype) if central is None else central)[keep[ax.axis]]
+        aperture, central = cell_weights(ax, wavelength, pitch, fill, dtype_name, keep[ax.axis])
+        pixel_term *= along_axis(aperture, ax.axis)
+        weight = by_axis[ax.axis][1][keep[ax.axis]].astype(dtype) if central is None else central
         if background is not None:
             background *= along_axis(weight, ax.axis)
         elif separable:
