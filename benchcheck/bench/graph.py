@@ -41,11 +41,20 @@ class Bench:
 
     def planes(self) -> list[str]:
         """Every element in trace order: depth first from the source, main arm before branches."""
-        order = []
-        for node in nx.dfs_preorder_nodes(self.graph, SOURCE, sort_neighbors=self._main_first):
-            if node != SOURCE:
-                order.append(node)
-        return order
+        return list(self._order)
+
+    def predecessor(self, name: str) -> str:
+        """The plane the beam comes from to ``name`` (the source for the first element)."""
+        return self._predecessors[name]
+
+    @functools.cached_property
+    def _order(self) -> tuple[str, ...]:
+        nodes = nx.dfs_preorder_nodes(self.graph, SOURCE, sort_neighbors=self._main_first)
+        return tuple(node for node in nodes if node != SOURCE)
+
+    @functools.cached_property
+    def _predecessors(self) -> dict[str, str]:
+        return {name: next(iter(self.graph.predecessors(name))) for name in self._order}
 
     def element(self, name: str) -> Element:
         return self.graph.nodes[name]["element"]

@@ -18,15 +18,7 @@ from benchcheck.bench.graph import SOURCE, Bench
 from benchcheck.bench.realization import Realization
 from benchcheck.layout.model import MAIN_ARM, Layout
 from benchcheck.optics.element_actions import Action, IncomingBeam, act, hologram_deflection, wave_action
-from benchcheck.optics.gaussian import (
-    beam_radius,
-    distance_past_waist,
-    gouy_phase,
-    q_at,
-    rayleigh_range,
-    waist_radius,
-    wavefront_radius,
-)
+from benchcheck.optics.gaussian import beam_numbers, beam_radius, q_at
 from benchcheck.optics.matrices import as_ray_matrix, free_space
 
 __all__ = ["PlaneBeam", "TraceResult", "trace_realization", "CLIPPING_NOTE_LEVEL"]
@@ -117,29 +109,27 @@ class _AxisState:
 
 def _leaving(name, arm, kind, z, states, m2, wavelength, passed, transmission, arriving=None,
              zero=None) -> PlaneBeam:
-    def per_axis(function):
-        return (function(0), function(1))
-
+    x, y = (beam_numbers(states[axis].q, wavelength, m2[axis]) for axis in (0, 1))
     incoming = arriving or states
     return PlaneBeam(
         name=name,
         arm=arm,
         type=kind,
         z=z,
-        w=per_axis(lambda a: beam_radius(states[a].q, wavelength, m2[a])),
-        radius=per_axis(lambda a: wavefront_radius(states[a].q)),
-        waist=per_axis(lambda a: waist_radius(states[a].q, wavelength, m2[a])),
-        waist_z=per_axis(lambda a: z - distance_past_waist(states[a].q)),
-        rayleigh=per_axis(lambda a: rayleigh_range(states[a].q)),
-        gouy=per_axis(lambda a: gouy_phase(states[a].q)),
-        offset=per_axis(lambda a: states[a].position),
-        angle=per_axis(lambda a: states[a].slope),
+        w=(x[0], y[0]),
+        radius=(x[1], y[1]),
+        waist=(x[2], y[2]),
+        waist_z=(z - x[3], z - y[3]),
+        rayleigh=(x[4], y[4]),
+        gouy=(x[5], y[5]),
+        offset=(states[0].position, states[1].position),
+        angle=(states[0].slope, states[1].slope),
         passed=passed,
         transmission=transmission,
         q=(states[0].q, states[1].q),
-        q_in=per_axis(lambda a: incoming[a].q),
-        offset_in=per_axis(lambda a: incoming[a].position),
-        angle_in=per_axis(lambda a: incoming[a].slope),
+        q_in=(incoming[0].q, incoming[1].q),
+        offset_in=(incoming[0].position, incoming[1].position),
+        angle_in=(incoming[0].slope, incoming[1].slope),
         zero_order_offset=None if zero is None else (zero[0].position, zero[1].position),
     )
 
@@ -195,7 +185,7 @@ def trace_realization(
     actions: dict[str, Action] = {}
     for name in bench.planes():
         element = realization.element(name)
-        predecessor = next(iter(bench.graph.predecessors(name)))
+        predecessor = bench.predecessor(name)
         z_before, states, transmission, zero = outputs[(predecessor, element.arm)]
         gap = free_space(element.z - z_before)
         arriving = [_through(states[axis], gap) for axis in (0, 1)]

@@ -25,6 +25,7 @@ __all__ = [
     "distance_past_waist",
     "rayleigh_range",
     "gouy_phase",
+    "beam_numbers",
     "AxisBeam",
 ]
 
@@ -140,6 +141,20 @@ def gouy_phase(q: complex) -> float:
     """Gouy phase arctan(z / z_R) (rad) of the fundamental mode (Siegman, Lasers, 1986, ch. 17)."""
     q = _checked_q(q)
     return math.atan2(q.real, q.imag)
+
+
+def beam_numbers(q: complex, wavelength: float, m2: float = 1.0) -> tuple[float, float, float, float, float, float]:
+    """(w, R, w0, z, z_R, Gouy phase) of one axis: ``beam_radius``, ``wavefront_radius``,
+    ``waist_radius``, ``distance_past_waist``, ``rayleigh_range`` and ``gouy_phase`` at
+    once, with the same arithmetic and q checked once (the trace needs all six per plane)."""
+    q = _checked_q(q)
+    inverse = 1.0 / q
+    return (math.sqrt(-m2 * wavelength / (math.pi * inverse.imag)),
+            math.inf if inverse.real == 0.0 else 1.0 / inverse.real,
+            math.sqrt(m2 * wavelength * q.imag / math.pi),
+            q.real,
+            q.imag,
+            math.atan2(q.real, q.imag))
 
 
 @dataclass(frozen=True)

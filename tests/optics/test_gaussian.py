@@ -8,6 +8,7 @@ import pytest
 
 from benchcheck.optics.gaussian import (
     AxisBeam,
+    beam_numbers,
     beam_radius,
     distance_past_waist,
     gouy_phase,
@@ -98,7 +99,12 @@ def test_beam_radius_and_curvature_follow_the_gaussian_beam_formulas(m2):
         assert gouy_phase(q) == pytest.approx(math.atan(z / z_r), rel=1e-12)
         assert waist_radius(q, wavelength, m2) == pytest.approx(waist, rel=1e-12)
         assert rayleigh_range(q) == pytest.approx(z_r, rel=1e-12)
+        # the six at once, as the trace takes them: the same arithmetic, identical numbers
+        assert beam_numbers(q, wavelength, m2) == (beam_radius(q, wavelength, m2), wavefront_radius(q),
+                                                   waist_radius(q, wavelength, m2), distance_past_waist(q),
+                                                   rayleigh_range(q), gouy_phase(q))
     at_waist = q_at(waist, 0.0, wavelength, m2)
+    assert beam_numbers(at_waist, wavelength, m2)[1] == math.inf
     assert wavefront_radius(at_waist) == math.inf
     assert beam_radius(at_waist, wavelength, m2) == pytest.approx(waist, rel=1e-12)
 
