@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import functools
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -189,11 +190,13 @@ class RowTransformField(Field):
     power, its edge bands and the transforms of OAM purity follow from ``lines`` alone
     (Parseval and the DFT of ``factor``), so the window's transform along x is made only if
     something reads ``values``. ``factor`` must have one modulus (a chirp times a constant:
-    checked).
+    checked). ``gram``, where the stage has a shorter way to it: a function giving Σ over rows
+    of lines[r, j] conj(lines[r, j']) in double precision (called once, if read), else it is
+    made from the lines.
     """
 
     def __init__(self, lines: np.ndarray, first: int, sign: int, factor: np.ndarray, grid: Grid,
-                 wavelength: float, plane: str) -> None:
+                 wavelength: float, plane: str, gram: Callable[[], np.ndarray] | None = None) -> None:
         if lines.shape[0] != grid.ny or not 0 <= first <= grid.nx - lines.shape[1] or factor.shape != (grid.nx,):
             raise ValueError(f"lines {lines.shape} from column {first} and factor {factor.shape} "
                              f"do not fit {grid.shape}")
@@ -202,7 +205,17 @@ class RowTransformField(Field):
             raise ValueError("the output factor of a row transform must have one modulus")
         _set_attributes(self, lines=lines, first=int(first), sign=int(sign), factor=factor,
                         factor_power=float(np.mean(modulus**2)), grid=grid, wavelength=wavelength,
-                        plane=plane, support=None)
+                        plane=plane, support=None, gram_from=gram)
+
+    @cached_property
+    def gram(self) -> np.ndarray:
+        """G[j, j'] = Σ over rows of lines[r, j] conj(lines[r, j']), double precision (read-only)."""
+        if self.gram_from is not None:
+            return self.gram_from()
+        lines = self.lines.astype(np.complex128)
+        gram = lines.T @ lines.conj()
+        gram.flags.writeable = False
+        return gram
 
     @property
     def dtype(self) -> np.dtype:
@@ -229,8 +242,9 @@ class RowTransformField(Field):
 
     def scaled(self, amplitude: float) -> "RowTransformField":
         """The same field times a real ``amplitude`` (float32, as a stage's transmission)."""
+        gram = None if self.gram_from is None else lambda: self.gram * float(np.float32(amplitude)) ** 2
         return RowTransformField(self.lines * np.float32(amplitude), self.first, self.sign, self.factor, self.grid,
-                                 self.wavelength, self.plane)
+                                 self.wavelength, self.plane, gram)
 
     def rows_power(self, rows: slice = slice(None)) -> float:
         """Σ|values|² over ``rows`` (no sample area), by Parseval along each row."""

@@ -38,6 +38,7 @@ stage (nominal runs, targets, threshold searches that move only downstream eleme
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -300,7 +301,30 @@ def _row_transform(field: Field, axes, dtype, workers: int, notes: list, grid: G
     _, factor_out, alpha, _, _ = fourier_parts(x_axis, field.wavelength)
     lines = _pruned_lines(field, axes, dtype, workers, notes)
     return RowTransformField(lines, field.support[1].start, 1 if alpha > 0 else -1, factor_out.astype(dtype),
-                             grid, field.wavelength, plane)
+                             grid, field.wavelength, plane, _lines_gram(field, axes, dtype))
+
+
+def _lines_gram(field: Field, axes, dtype):
+    """A function giving Σ over rows of lines[r, j] conj(lines[r, j']) for ``_pruned_lines``'
+    lines from the box alone, where y is a plain DFT over the whole period (FFT path, as many
+    samples out as in): its columns are orthogonal, each of squared norm N |output factor|²,
+    so the sum over the N rows is N |c|² Σ_k b[k, j] conj(b[k, j']) over the box's rows b
+    (times the x input factor; the y input factor has modulus 1). A product over the box's
+    rows instead of the window's (43 against 512 or 1024 on the 4f example); else None."""
+    x_axis, y_axis = axes
+    if _on_box_only(y_axis, field.wavelength) or y_axis.n_out != y_axis.n_in:
+        return None
+    return functools.partial(_box_gram, field, x_axis, y_axis, dtype)
+
+
+def _box_gram(field: Field, x_axis, y_axis, dtype) -> np.ndarray:
+    _, factor_out, _, _, _ = fourier_parts(y_axis, field.wavelength)
+    factor_power = float(np.mean(np.abs(factor_out.astype(dtype).astype(np.complex128)) ** 2))
+    box = support_values(field).astype(np.complex128)
+    box *= fourier_parts(x_axis, field.wavelength)[0][field.support[1]].astype(dtype)[np.newaxis, :]
+    gram = (y_axis.n_out * factor_power) * (box.T @ box.conj())
+    gram.flags.writeable = False
+    return gram
 
 
 def _fourier_to_box(field: Field, axes, dtype, workers: int, notes: list, box) -> np.ndarray:

@@ -213,10 +213,10 @@ def _row_transform_spectrum(field: RowTransformField, wavenumber_slope: float):
     its transform is A[q] = Σ_j g[j] Ĉ[q + s (f + j)] (indices modulo N), Ĉ = FFT(c): one
     transform of length N, and a matrix product with the held columns (in their precision,
     that of the window's transform). The column powers are the quadratic forms
-    Σ H[q, j] M[j, j'] conj(H[q, j']) with M = gᵀ ḡ (the held columns' Gram matrix, in double
-    precision: far columns carry 1e-7 of the power, which single-precision sums of the form
-    would blur) and H[q, j] = Ĉ[q + s (f + j)], a Hankel matrix (a strided view of Ĉ): a
-    product with M, never the N x N spectrum."""
+    Σ H[q, j] M[j, j'] conj(H[q, j']) with M = gᵀ ḡ (the held columns' Gram matrix in double
+    precision, ``RowTransformField.gram``: far columns carry 1e-7 of the power, which
+    single-precision sums of the form would blur) and H[q, j] = Ĉ[q + s (f + j)], a Hankel
+    matrix (a strided view of Ĉ): a product with M, never the N x N spectrum."""
     grid = field.grid
     n, held = grid.nx, field.lines.shape[1]
     chirp = field.factor.astype(np.complex128)
@@ -228,8 +228,7 @@ def _row_transform_spectrum(field: RowTransformField, wavenumber_slope: float):
     hankel = sliding_window_view(spectrum[(np.arange(n + held - 1) + offset) % n], held)
     if field.sign < 0:
         hankel = hankel[:, ::-1]
-    lines = field.lines.astype(np.complex128)
-    column_power = np.einsum("qj,qj->q", hankel @ (lines.T @ lines.conj()), hankel.conj()).real
+    column_power = np.einsum("qj,qj->q", hankel @ field.gram, hankel.conj()).real
 
     def columns_of(indices: np.ndarray) -> np.ndarray:
         return field.lines @ hankel[indices].T.astype(field.lines.dtype)

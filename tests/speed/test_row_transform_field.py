@@ -131,6 +131,24 @@ def test_a_study_trial_does_not_transform_the_camera_window(tmp_path):
         assert trial.metrics[metric] == pytest.approx(full.metrics[metric], rel=1e-6)
 
 
+def test_the_gram_matrix_a_stage_gives_from_the_box_is_that_of_the_held_columns(tmp_path):
+    # On the FFT path along y the columns of the DFT are orthogonal, each of squared norm
+    # N |c|² (Parseval), so the stage takes the Gram matrix of the held columns from the iris
+    # box alone: against Σ_r g[r, j] conj(g[r, j']) over the complex64 columns themselves,
+    # float32 rounding of the transform (1e-6 of the largest entry). A transmission scales it
+    # by the amplitude squared.
+    path = tmp_path / "relay.toml"
+    path.write_text(scaled_relay_text(128))
+    trial = make_evaluator(load_layout(path), study=True).evaluate({"slm.x": 2e-6, "cam.z": 4e-4}, wave=True)
+    camera = trial.simulation.planes["cam"].field
+    assert isinstance(camera, RowTransformField) and camera.gram_from is not None
+    lines = camera.lines.astype(np.complex128)
+    direct = lines.T @ lines.conj()
+    scale = np.abs(direct).max()
+    assert np.allclose(camera.gram, direct, rtol=0, atol=1e-6 * scale)
+    assert np.allclose(camera.scaled(0.8).gram, 0.64 * direct, rtol=0, atol=1e-6 * scale)
+
+
 def test_a_scaled_row_transform_field_is_its_window_scaled():
     # A stage's transmission scales the held columns, the window is still not made; the
     # window made afterwards is the original's times the amplitude (float32 rounding: 1e-6).
