@@ -129,7 +129,7 @@ def _window_pixels(nominal: Element, real: Element, beam_position: tuple[float, 
     indices, on_panel = [], []
     for axis, count in enumerate((columns, rows)):
         offset = (beam_position[axis] - (real.x if axis == 0 else real.y)) / pitch_real[axis]
-        centre = int(np.clip(round(offset), -(count // 2), count - 1 - count // 2))
+        centre = min(max(round(offset), -(count // 2)), count - 1 - count // 2)  # on the panel
         index = centre + np.arange(size) - size // 2
         indices.append(index)
         on_panel.append((index + count // 2 >= 0) & (index + count // 2 < count))
