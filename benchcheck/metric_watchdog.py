@@ -60,6 +60,9 @@ _TIMER_SIGNAL = getattr(signal, "SIGALRM", None)
 # After the first signal the timer fires again at this interval until the call returns: a
 # metric that swallowed the first (a bare except) is stopped by a later one.
 _REFIRE_S = 0.5
+# The longest the timer is armed for (a platform's time_t overflows near 1e10 s); a limit
+# beyond it is as good as none.
+_LONGEST_TIMER_S = 1e8
 
 
 class _TimerState:
@@ -101,7 +104,7 @@ def _answer_under_timer(call: Callable[[], Any], time_limit: float) -> tuple[Any
     _TimerState.armed = True
     try:
         try:
-            signal.setitimer(signal.ITIMER_REAL, max(time_limit, 1e-6), _REFIRE_S)
+            signal.setitimer(signal.ITIMER_REAL, min(max(time_limit, 1e-6), _LONGEST_TIMER_S), _REFIRE_S)
             value = call()
             answer = (value, None)
         except _Overran:

@@ -1,7 +1,7 @@
 """Full tolerance trials of the 4f example against the FFT floor, a step-by-step reference,
 worker scaling and a projection to 10,000 trials (run by hand; nothing here is a test).
 
-    python3 benchmarks/trial_speed.py [--grids 256 512 1024] [--trials 32] [--study-grid 1024]
+    python3 benchmarks/trial_speed.py [--grids 256 512 1024] [--trials 64] [--study-grid 1024]
                                       [--study-trials 200] [--reference-grid 1024]
 
 Every number is measured side by side in one run and printed as a ratio:
@@ -293,7 +293,7 @@ def _reference(path: Path) -> dict:
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--grids", type=int, nargs="+", default=[256, 512, 1024])
-    parser.add_argument("--trials", type=int, default=32, help="drawn trials timed per grid")
+    parser.add_argument("--trials", type=int, default=64, help="drawn trials timed per grid")
     parser.add_argument("--study-grid", type=int, default=1024)
     parser.add_argument("--study-trials", type=int, default=200, help="0: no study")
     parser.add_argument("--reference-grid", type=int, default=1024, help="0: no step-by-step reference")
