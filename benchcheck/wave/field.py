@@ -180,6 +180,18 @@ def _roots_of_unity(n: int, sign: int, dtype_name: str) -> np.ndarray:
     return roots
 
 
+@functools.lru_cache(maxsize=8)
+def _dirichlet_by_lag(n: int, sign: int, held: int, width: int) -> np.ndarray:
+    """conj K(j − j') as a held x held matrix, K(d) = Σ_m exp(−2πi · sign · d m / n) over the
+    ``width`` columns at each side of a window of n (m = −width..width − 1), so that
+    Σ_{j,j'} G[j, j'] K(j − j') is ``np.vdot`` of it with G (read-only, shared)."""
+    lags = np.arange(-(held - 1), held)
+    sums = np.exp((-2j * np.pi * sign / n) * np.multiply.outer(lags, np.arange(-width, width))).sum(axis=1)
+    matrix = sums[np.subtract.outer(np.arange(held), np.arange(held)) + held - 1].conj()
+    matrix.flags.writeable = False
+    return matrix
+
+
 class RowTransformField(Field):
     """A field whose every row is a DFT along x of a few nonzero samples, held as those samples.
 
@@ -260,6 +272,25 @@ class RowTransformField(Field):
         held = np.arange(self.first, self.first + self.lines.shape[1], dtype=np.int64)
         kernel = _roots_of_unity(n, self.sign, self.lines.dtype.name)[np.multiply.outer(held, indices) % n]
         return (self.lines[rows] @ kernel) * self.factor[indices]
+
+    def side_columns_power(self, width: int, rows: slice) -> float:
+        """Σ|values|² over ``rows`` (a step-1 slice) and the ``width`` columns at each side of
+        the window (no sample area). Summed over those columns m, |Σ_j lines[r, j] w^(s (first
+        + j) m)|² is Σ_{j,j'} lines[r, j] conj(lines[r, j']) K(j − j'), K(d) = Σ_m w^(s d m)
+        a Dirichlet sum (w = exp(−2πi/N)): with the Gram matrix the stage gives (``gram``,
+        from the iris box), the rows' part of it is the whole less the rows outside, a few
+        products of the held columns' width; else the strips' columns are made (``columns``)."""
+        if self.gram_from is None:
+            strips = self.columns(np.r_[0:width, self.grid.nx - width:self.grid.nx], rows)
+            return float(np.vdot(strips, strips).real)
+        start, stop, _ = rows.indices(self.grid.ny)
+        gram = self.gram.copy()
+        for outside in (self.lines[:start], self.lines[stop:]):
+            if outside.size:
+                outside = outside.astype(np.complex128)
+                gram -= outside.T @ outside.conj()
+        dirichlet = _dirichlet_by_lag(self.grid.nx, self.sign, self.lines.shape[1], width)
+        return self.factor_power * float(np.vdot(dirichlet, gram).real)
 
     @cached_property
     def power(self) -> float:  # noqa: D102 - from the lines alone

@@ -107,10 +107,9 @@ def edge_energy(field: Field, border_fraction: float = 0.05) -> float:
         return 0.0
     if 2 * by >= ny or 2 * bx >= nx:
         return 1.0
-    if isinstance(field, RowTransformField):  # rows by Parseval, the side strips' columns made alone
-        sides = field.columns(np.r_[0:bx, nx - bx:nx], slice(by, ny - by))
+    if isinstance(field, RowTransformField):  # rows by Parseval, the side strips from the held columns
         band = field.rows_power(slice(0, by)) + field.rows_power(slice(ny - by, ny))
-        band += float(np.vdot(sides, sides).real)
+        band += field.side_columns_power(bx, slice(by, ny - by))
         return min(1.0, max(0.0, band / total))
     if isinstance(field, BoxedField):  # zero outside its box: the band's part of the box
         (rows, columns), values = field.support, field.box
