@@ -64,6 +64,7 @@ from benchcheck.wave.fft_backend import apply_fft_backend_from_environment
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.holograms import builtin_patterns
 from benchcheck.wave.stages import natural_output_grid, propagate
+from benchcheck.wave.zoomed_rows import ZoomedRowField
 
 __all__ = ["PlaneResult", "SimulationResult", "WaveSimulator", "DEFAULT_WINDOW_RADII"]
 
@@ -193,7 +194,7 @@ class WaveSimulator:
                                     f"around '{name}')") from None
             arriving = result.field
             leaving_power = (state["incident_power"] if cells is not None else current.power) * stage.amplitude**2
-            if stage.amplitude != 1.0 and isinstance(arriving, (BoxedField, RowTransformField)):
+            if stage.amplitude != 1.0 and isinstance(arriving, (BoxedField, RowTransformField, ZoomedRowField)):
                 arriving = arriving.scaled(stage.amplitude)  # still without its window
             elif stage.amplitude != 1.0:
                 arriving = Field(arriving.values * np.float32(stage.amplitude), arriving.grid, arriving.wavelength,

@@ -34,6 +34,7 @@ __all__ = [
     "scaled_dft",
     "fourier_parts",
     "cell_weights",
+    "off_path_notes",
     "fourier_axis",
     "split_axis",
     "interpolate_spectrum",
@@ -228,20 +229,24 @@ def cell_weights(ax: AxisPlan, wavelength: float, pitch: float, fill: float, dty
     return aperture, background
 
 
+def off_path_notes(ax: AxisPlan, wavelength: float) -> list[str]:
+    """What a Fourier axis off the FFT path says of its output grid."""
+    span = wavelength * abs(ax.b) / ax.pitch_in
+    notes = [f"{ax.name}: output grid reached with a chirp-z transform"]
+    if ax.n_out * ax.pitch_out > span * (1 + SAME_GRID):
+        notes.append(f"{ax.name}: output window {ax.n_out * ax.pitch_out:.4g} m is wider than the "
+                     f"alias-free span λ|B|/p = {span:.4g} m: replicas of the input sampling appear")
+    return notes
+
+
 def fourier_axis(work, ax: AxisPlan, wavelength: float, workers: int, notes: list, owned: bool = True,
                  input_applied: bool = False, first_index: int | None = None) -> np.ndarray:
     """One axis of the Fourier branch; ``owned``: ``work`` may be overwritten (else it is left
     as it is); ``input_applied``: the caller has applied the input factor already;
     ``first_index``: ``work`` holds the samples from there on only (see :func:`scaled_dft`)."""
     factor_in, factor_out, alpha, fft_path, _ = fourier_parts(ax, wavelength)
-    span = wavelength * abs(ax.b) / ax.pitch_in
     if not fft_path:
-        notes.append(f"{ax.name}: output grid reached with a chirp-z transform")
-        if ax.n_out * ax.pitch_out > span * (1 + SAME_GRID):
-            notes.append(
-                f"{ax.name}: output window {ax.n_out * ax.pitch_out:.4g} m is wider than the "
-                f"alias-free span λ|B|/p = {span:.4g} m: replicas of the input sampling appear"
-            )
+        notes.extend(off_path_notes(ax, wavelength))
     factor = along_axis(factor_in.astype(work.dtype), ax.axis)
     if input_applied:
         work = work if owned else work.copy()

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["DIRECT_MAX_INPUT", "direct_dft"]
+__all__ = ["DIRECT_MAX_INPUT", "direct_dft", "dft_matrix"]
 
 #: Input samples up to which the matrix product beats the chirp-z transform (measured at 512
 #: and 1024 outputs: the product wins up to 128 inputs, and the two are even near 256; with
@@ -21,7 +21,7 @@ __all__ = ["DIRECT_MAX_INPUT", "direct_dft"]
 DIRECT_MAX_INPUT = 128
 
 
-def _kernel(n: int, m_out: int, alpha: float, first_index: int, dtype) -> np.ndarray:
+def dft_matrix(n: int, m_out: int, alpha: float, first_index: int, dtype) -> np.ndarray:
     """exp(−2πi α (k + first_index) m) for k < n (rows) and m < m_out (columns)."""
     m = np.arange(m_out, dtype=np.float64)
     step = np.exp(-2j * np.pi * np.mod(alpha * m, 1.0))
@@ -40,6 +40,6 @@ def direct_dft(values: np.ndarray, alpha: float, m_out: int, axis: int, first_in
     """Σ_k values[k] exp(−2πi α (k + first_index) m), m = 0 .. m_out − 1, along ``axis`` (0 or
     1) of a 2-D array, in the array's own precision."""
     dtype = np.complex128 if values.dtype == np.complex128 else np.complex64
-    kernel = _kernel(values.shape[axis], int(m_out), float(alpha), int(first_index), dtype)
+    kernel = dft_matrix(values.shape[axis], int(m_out), float(alpha), int(first_index), dtype)
     values = values.astype(dtype, copy=False)
     return values @ kernel if axis == 1 else kernel.T @ values

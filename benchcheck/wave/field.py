@@ -84,10 +84,37 @@ class Field:
         )
 
 
-def _set_attributes(field: Field, **attributes) -> None:
-    """Set the attributes of a frozen field being made (its values are made later)."""
+def set_field_attributes(field: Field, **attributes) -> None:
+    """Set the attributes of a frozen field being made (for the kinds whose values are made
+    later: they set what they hold instead of ``values``)."""
     for name, value in attributes.items():
         object.__setattr__(field, name, value)
+
+
+def held_columns_gram(lines: np.ndarray) -> np.ndarray:
+    """Σ over rows of lines[r, j] conj(lines[r, j']), in double precision."""
+    lines = lines.astype(np.complex128)
+    return lines.T @ lines.conj()
+
+
+def rows_gram(gram: np.ndarray, lines: np.ndarray, rows: slice) -> np.ndarray:
+    """The held columns' Gram matrix over ``rows`` (a step-1 slice) from the whole one
+    (``gram``): less that of the rows outside them, few where the rows are a window's middle."""
+    start, stop, _ = rows.indices(lines.shape[0])
+    inside = gram.copy()
+    for outside in (lines[:start], lines[stop:]):
+        if outside.size:
+            inside -= held_columns_gram(outside)
+    return inside
+
+
+def one_modulus_power(factor: np.ndarray) -> float:
+    """mean |factor|² of a stage's output factor, which must have one modulus (a chirp times
+    a constant; float32 rounding aside): ValueError otherwise."""
+    modulus = np.abs(factor.astype(np.complex128))
+    if modulus.max() - modulus.min() > _ONE_MODULUS * modulus.max():
+        raise ValueError("the output factor of a row transform must have one modulus")
+    return float(np.mean(modulus**2))
 
 
 class DeferredField(Field):
@@ -100,8 +127,8 @@ class DeferredField(Field):
     """
 
     def __init__(self, make_values, dtype, grid: Grid, wavelength: float, plane: str = "") -> None:
-        _set_attributes(self, _make_values=make_values, _dtype=np.dtype(dtype), grid=grid, wavelength=wavelength,
-                        plane=plane, support=None)
+        set_field_attributes(self, _make_values=make_values, _dtype=np.dtype(dtype), grid=grid,
+                             wavelength=wavelength, plane=plane, support=None)
 
     @property
     def dtype(self) -> np.dtype:
@@ -119,9 +146,9 @@ class DeferredField(Field):
 
 
 def values_made(field: Field) -> bool:
-    """Whether the field's values exist yet (a DeferredField's, a BoxedField's and a
-    RowTransformField's are made when first read)."""
-    return not isinstance(field, (DeferredField, BoxedField, RowTransformField)) or "values" in field.__dict__
+    """Whether the field's values exist yet (those of the kinds that hold something else,
+    DeferredField, BoxedField and the row fields, are made when first read)."""
+    return "values" in field.__dict__  # a plain Field's dataclass attribute, or a made cached one
 
 
 class BoxedField(Field):
@@ -137,7 +164,7 @@ class BoxedField(Field):
         rows, columns = support
         if box.shape != (rows.stop - rows.start, columns.stop - columns.start):
             raise ValueError(f"box {box.shape} does not match its support {support}")
-        _set_attributes(self, box=box, grid=grid, wavelength=wavelength, plane=plane, support=support)
+        set_field_attributes(self, box=box, grid=grid, wavelength=wavelength, plane=plane, support=support)
 
     @property
     def dtype(self) -> np.dtype:
@@ -212,20 +239,14 @@ class RowTransformField(Field):
         if lines.shape[0] != grid.ny or not 0 <= first <= grid.nx - lines.shape[1] or factor.shape != (grid.nx,):
             raise ValueError(f"lines {lines.shape} from column {first} and factor {factor.shape} "
                              f"do not fit {grid.shape}")
-        modulus = np.abs(factor.astype(np.complex128))
-        if modulus.max() - modulus.min() > _ONE_MODULUS * modulus.max():
-            raise ValueError("the output factor of a row transform must have one modulus")
-        _set_attributes(self, lines=lines, first=int(first), sign=int(sign), factor=factor,
-                        factor_power=float(np.mean(modulus**2)), grid=grid, wavelength=wavelength,
-                        plane=plane, support=None, gram_from=gram)
+        set_field_attributes(self, lines=lines, first=int(first), sign=int(sign), factor=factor,
+                             factor_power=one_modulus_power(factor), grid=grid, wavelength=wavelength,
+                             plane=plane, support=None, gram_from=gram)
 
     @cached_property
     def gram(self) -> np.ndarray:
         """G[j, j'] = Σ over rows of lines[r, j] conj(lines[r, j']), double precision (read-only)."""
-        if self.gram_from is not None:
-            return self.gram_from()
-        lines = self.lines.astype(np.complex128)
-        gram = lines.T @ lines.conj()
+        gram = self.gram_from() if self.gram_from is not None else held_columns_gram(self.lines)
         gram.flags.writeable = False
         return gram
 
@@ -283,14 +304,8 @@ class RowTransformField(Field):
         if self.gram_from is None:
             strips = self.columns(np.r_[0:width, self.grid.nx - width:self.grid.nx], rows)
             return float(np.vdot(strips, strips).real)
-        start, stop, _ = rows.indices(self.grid.ny)
-        gram = self.gram.copy()
-        for outside in (self.lines[:start], self.lines[stop:]):
-            if outside.size:
-                outside = outside.astype(np.complex128)
-                gram -= outside.T @ outside.conj()
         dirichlet = _dirichlet_by_lag(self.grid.nx, self.sign, self.lines.shape[1], width)
-        return self.factor_power * float(np.vdot(dirichlet, gram).real)
+        return self.factor_power * float(np.vdot(dirichlet, rows_gram(self.gram, self.lines, rows)).real)
 
     @cached_property
     def power(self) -> float:  # noqa: D102 - from the lines alone

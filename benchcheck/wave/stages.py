@@ -51,12 +51,14 @@ from benchcheck.wave.axis_transforms import (
     cell_weights,
     fourier_axis,
     fourier_parts,
+    off_path_notes,
     output_grid_of,
     plan_axes,
     scaled_dft,
     split_axis,
     stage_method,
 )
+from benchcheck.wave.direct_dft import DIRECT_MAX_INPUT
 from benchcheck.wave.field import BoxedField, Field, RowTransformField, support_values
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.pixel_cells import (
@@ -67,6 +69,7 @@ from benchcheck.wave.pixel_cells import (
     upsampling_factor,
 )
 from benchcheck.wave.sampling import SamplingNote, check_window
+from benchcheck.wave.zoomed_rows import ZoomedRowField
 
 __all__ = ["StageResult", "propagate", "natural_output_grid", "choose_branch"]
 
@@ -293,14 +296,23 @@ def _pruned_lines(field: Field, axes, dtype, workers: int, notes: list, rows_out
 
 
 def _row_transform(field: Field, axes, dtype, workers: int, notes: list, grid: Grid, plane: str):
-    """``_pruned_fourier``'s field with its x transform left pending (a RowTransformField),
-    where x is on the plain FFT path onto as many samples; else None."""
+    """``_pruned_fourier``'s field with its x transform left pending: a RowTransformField where
+    x is on the plain FFT path onto as many samples, a ZoomedRowField where x is off it and the
+    box is short enough for the matrix product (direct_dft.py); else None."""
     x_axis = axes[0]
-    if _on_box_only(x_axis, field.wavelength) or x_axis.n_out != x_axis.n_in:
-        return None
     _, factor_out, alpha, _, _ = fourier_parts(x_axis, field.wavelength)
+    columns = field.support[1]
+    if _on_box_only(x_axis, field.wavelength):
+        if columns.stop - columns.start > DIRECT_MAX_INPUT:
+            return None
+        lines = _pruned_lines(field, axes, dtype, workers, notes)
+        notes.extend(off_path_notes(x_axis, field.wavelength))
+        return ZoomedRowField(lines, columns.start, alpha, factor_out.astype(dtype), grid, field.wavelength, plane,
+                              _lines_gram(field, axes, dtype))
+    if x_axis.n_out != x_axis.n_in:
+        return None
     lines = _pruned_lines(field, axes, dtype, workers, notes)
-    return RowTransformField(lines, field.support[1].start, 1 if alpha > 0 else -1, factor_out.astype(dtype),
+    return RowTransformField(lines, columns.start, 1 if alpha > 0 else -1, factor_out.astype(dtype),
                              grid, field.wavelength, plane, _lines_gram(field, axes, dtype))
 
 

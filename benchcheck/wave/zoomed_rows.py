@@ -1,0 +1,128 @@
+"""A field held as the few columns whose zoomed DFT along x makes its rows.
+
+Where a Fourier stage carries the field from a small iris onto a grid off the FFT path (a
+study's trial landing on the nominal camera grid, where the target was made once), the x
+step is a zoomed DFT of the box's few columns, a matrix product as large as the window times
+the box's width (direct_dft.py). ``ZoomedRowField`` holds those columns and makes the product
+only if something reads ``values``. Its power and its window check follow from the columns'
+Gram matrix and sums of exp(−2πi α d m) over the output columns (geometric series), and its
+overlap with a fixed target from the target's low-rank form (``wave/overlaps.py``).
+"""
+
+from __future__ import annotations
+
+import functools
+from collections.abc import Callable
+from functools import cached_property
+
+import numpy as np
+
+from benchcheck.wave.direct_dft import dft_matrix, direct_dft
+from benchcheck.wave.field import Field, held_columns_gram, one_modulus_power, rows_gram, set_field_attributes
+from benchcheck.wave.grid import Grid
+
+__all__ = ["ZoomedRowField"]
+
+# Below this |sin(π α d)| a lag's sum over the columns is added term by term: the closed
+# form's quotient loses digits as its denominator vanishes (α d near an integer).
+_NEAR_PERIOD = 1e-3
+
+
+class ZoomedRowField(Field):
+    """values[r, m] = factor[m] · Σ_j lines[r, j] exp(−2πi α (first + j) m), m < grid.nx.
+
+    ``factor`` (the stage's output factor) must have one modulus (checked). ``gram``, where
+    the stage has a shorter way to it: a function giving Σ over rows of lines[r, j]
+    conj(lines[r, j']) in double precision, else it is made from the lines.
+    """
+
+    def __init__(self, lines: np.ndarray, first: int, alpha: float, factor: np.ndarray, grid: Grid,
+                 wavelength: float, plane: str, gram: Callable[[], np.ndarray] | None = None) -> None:
+        if lines.shape[0] != grid.ny or factor.shape != (grid.nx,):
+            raise ValueError(f"lines {lines.shape} and factor {factor.shape} do not fit {grid.shape}")
+        set_field_attributes(self, lines=lines, first=int(first), alpha=float(alpha), factor=factor,
+                             factor_power=one_modulus_power(factor), grid=grid, wavelength=wavelength,
+                             plane=plane, support=None, gram_from=gram)
+
+    @property
+    def dtype(self) -> np.dtype:
+        return self.lines.dtype
+
+    def __reduce__(self):
+        return Field, (self.values, self.grid, self.wavelength, self.plane)  # pickled as made
+
+    @cached_property
+    def values(self) -> np.ndarray:  # noqa: D102 - the window, transformed now
+        window = direct_dft(np.ascontiguousarray(self.lines), self.alpha, self.grid.nx, 1, self.first)
+        window *= self.factor[np.newaxis, :]
+        return window
+
+    @cached_property
+    def gram(self) -> np.ndarray:
+        """G[j, j'] = Σ over rows of lines[r, j] conj(lines[r, j']), double precision (read-only)."""
+        gram = self.gram_from() if self.gram_from is not None else held_columns_gram(self.lines)
+        gram.flags.writeable = False
+        return gram
+
+    def scaled(self, amplitude: float) -> "ZoomedRowField":
+        """The same field times a real ``amplitude`` (float32, as a stage's transmission)."""
+        gram = None if self.gram_from is None else lambda: self.gram * float(np.float32(amplitude)) ** 2
+        return ZoomedRowField(self.lines * np.float32(amplitude), self.first, self.alpha, self.factor, self.grid,
+                              self.wavelength, self.plane, gram)
+
+    def _sum_over_columns(self, gram: np.ndarray, *columns: tuple[int, int]) -> float:
+        """Σ over the rows of ``gram`` and the output columns [start, stop) of |values|²: summed
+        over m, |Σ_j g_j exp(−2πi α (first + j) m)|² is Σ_{j,j'} g_j conj(g_j') S(j − j'),
+        S(d) = Σ_m exp(−2πi α d m)."""
+        sums = sum(_lag_sums(self.alpha, self.lines.shape[1], start, stop) for start, stop in columns)
+        return self.factor_power * float(np.vdot(sums[_lag_index(self.lines.shape[1])].conj(), gram).real)
+
+    def rows_power(self, rows: slice = slice(None)) -> float:
+        """Σ|values|² over ``rows`` (no sample area), without the window."""
+        gram = self.gram if rows == slice(None) else held_columns_gram(self.lines[rows])
+        return self._sum_over_columns(gram, (0, self.grid.nx))
+
+    def side_columns_power(self, width: int, rows: slice) -> float:
+        """Σ|values|² over ``rows`` (a step-1 slice) and the ``width`` columns at each side of
+        the window (no sample area), without the window."""
+        return self._sum_over_columns(rows_gram(self.gram, self.lines, rows), (0, width),
+                                      (self.grid.nx - width, self.grid.nx))
+
+    @cached_property
+    def power(self) -> float:  # noqa: D102 - from the lines alone
+        return self.rows_power() * self.grid.sample_area
+
+    def overlap_with_factors(self, rows: np.ndarray, weights: np.ndarray, columns: np.ndarray) -> complex:
+        """Σ conj(T)·values for a target T = Σ_k weights[k] rows[:, k] columns[:, k]ᴴ (a truncated
+        SVD), without the window: Σ_k w_k (rows_kᴴ lines)·(K (factor ∘ columns_k)), with K the
+        zoomed DFT's matrix (held columns x window columns), in double precision."""
+        along_rows = rows.conj().T @ self.lines.astype(np.complex128)  # [k, j]
+        kernel = dft_matrix(self.lines.shape[1], self.grid.nx, self.alpha, self.first, np.complex128)
+        along_columns = kernel @ (self.factor.astype(np.complex128)[:, np.newaxis] * columns)  # [j, k]
+        return complex(np.einsum("k,kj,jk->", weights, along_rows, along_columns))
+
+
+def _lag_sums(alpha: float, held: int, start: int, stop: int) -> np.ndarray:
+    """S(d) = Σ_{m=start}^{stop−1} exp(−2πi α d m) for d = −(held − 1) .. held − 1: the
+    geometric series, exp(−iθ (start + stop − 1)) sin(θ n) / sin θ with θ = π α d and n the
+    count, term by term where sin θ nearly vanishes."""
+    lags = np.arange(-(held - 1), held)
+    theta = np.pi * alpha * lags
+    count = stop - start
+    denominator = np.sin(theta)
+    near = np.abs(denominator) < _NEAR_PERIOD
+    sums = np.empty(lags.size, np.complex128)
+    far = ~near
+    sums[far] = (np.exp(-1j * theta[far] * (start + stop - 1)) * np.sin(theta[far] * count) / denominator[far])
+    if near.any():
+        columns = np.arange(start, stop)
+        sums[near] = np.exp(-2j * np.pi * alpha * np.multiply.outer(lags[near], columns)).sum(axis=1)
+    return sums
+
+
+@functools.lru_cache(maxsize=8)
+def _lag_index(held: int) -> np.ndarray:
+    """j − j' + held − 1 for a held x held matrix (read-only)."""
+    index = np.subtract.outer(np.arange(held), np.arange(held)) + held - 1
+    index.flags.writeable = False
+    return index
