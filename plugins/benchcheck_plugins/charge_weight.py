@@ -35,6 +35,7 @@ from __future__ import annotations
 import functools
 import math
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 import scipy.fft
@@ -88,6 +89,20 @@ class FieldBand:
     fy: np.ndarray
     disc: np.ndarray
     grid: Grid
+
+    @cached_property
+    def autocorrelation(self) -> np.ndarray:
+        """A[q] = Σ_k box[k + q] conj(box[k]) at every lag q = (rows, columns) in natural FFT
+        order: Wiener–Khinchin, the inverse transform of |transform|² of the box zero-padded
+        to at least 2n − 1 a side (no lag wraps round), rounded up to a class shared between
+        trials (``_LAG_CLASS``). The centroid reads its axes, the disc's power all of it."""
+        shape = tuple(scipy.fft.next_fast_len(-(-(2 * size - 1) // _LAG_CLASS) * _LAG_CLASS)
+                      for size in self.box.shape)
+        workers = fft_workers(self.box.itemsize * shape[0] * shape[1])  # by the padded size
+        # zero-padded along x on the box's rows only, then along y
+        padded = scipy.fft.fft(scipy.fft.fft(self.box, n=shape[1], axis=1, workers=workers), n=shape[0], axis=0,
+                               overwrite_x=True, workers=workers)
+        return scipy.fft.ifft2(padded.real**2 + padded.imag**2, workers=workers)
 
 
 def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldBand | None:
@@ -224,8 +239,8 @@ def _row_transform_spectrum(field: RowTransformField, wavenumber_slope: float):
         chirp = chirp * np.exp(-1j * wavenumber_slope * grid.x)
     spectrum = scipy.fft.fft(chirp, workers=1)
     # hankel[q, j] = Ĉ[q + f + j] for s = +1; for s = −1 the same view reversed along j
-    offset = field.first if field.sign > 0 else -(field.first + held - 1)
-    hankel = sliding_window_view(spectrum[(np.arange(n + held - 1) + offset) % n], held)
+    offset = (field.first if field.sign > 0 else -(field.first + held - 1)) % n
+    hankel = sliding_window_view(np.concatenate((spectrum, spectrum))[offset:offset + n + held - 1], held)  # cyclic
     if field.sign < 0:
         hankel = hankel[:, ::-1]
     column_power = np.einsum("qj,qj->q", hankel @ field.gram, hankel.conj()).real
@@ -241,21 +256,17 @@ def band_centroid(band: FieldBand) -> tuple[float, float]:
 
     Along x, the column sums M(x_n) = Σ_j |E(y_j, x_n)|² are Ny Σ_q R[q] exp(2πi q n / Nx),
     R the autocorrelation of the box along its columns summed over its rows (Parseval along
-    y), and Σ_n n w^n = N / (w − 1) for w = exp(2πi q / N) ≠ 1 (the derivative of the
-    geometric series, w^N = 1), so the centroid is
-    x₀ + p (N − 1)/2 + (p / R[0]) Σ_{q≠0} R[q] / (w_q − 1); the same along y.
+    y: the band's autocorrelation on its x axis of lags), and Σ_n n w^n = N / (w − 1) for
+    w = exp(2πi q / N) ≠ 1 (the derivative of the geometric series, w^N = 1), so the
+    centroid is x₀ + p (N − 1)/2 + (p / R[0]) Σ_{q≠0} R[q] / (w_q − 1); the same along y.
     """
     grid = band.grid
+    lags = band.autocorrelation
     centroid = []
-    for axis, (n, pitch, first) in enumerate(((grid.nx, grid.pitch[0], grid.x[0]),
-                                              (grid.ny, grid.pitch[1], grid.y[0]))):
-        lines = band.box if axis == 0 else band.box.T  # the transform runs along each line
-        length = scipy.fft.next_fast_len(2 * lines.shape[1] - 1)
-        transformed = scipy.fft.fft(lines, n=length, axis=1, workers=fft_workers(lines.nbytes))
-        correlation = scipy.fft.ifft((transformed.real**2 + transformed.imag**2).sum(axis=0), workers=1)
-        lag = scipy.fft.fftfreq(length, 1.0 / length)  # R[q] sits at q mod length
-        reach = lines.shape[1] - 1
-        near = (np.abs(lag) <= reach) & (lag != 0)
+    for correlation, (n, pitch, first, size) in ((lags[0, :], (grid.nx, grid.pitch[0], grid.x[0], band.fx.size)),
+                                                 (lags[:, 0], (grid.ny, grid.pitch[1], grid.y[0], band.fy.size))):
+        lag = scipy.fft.fftfreq(correlation.size, 1.0 / correlation.size)  # R[q] sits at q mod length
+        near = (np.abs(lag) <= size - 1) & (lag != 0)
         w = np.exp(2j * math.pi * lag[near] / n)
         moment = np.sum(correlation[near] / (w - 1.0)).real
         centroid.append(first + pitch * (n - 1) / 2 + pitch * moment / correlation[0].real)
@@ -402,36 +413,35 @@ def _lags_by_key(shape: tuple[int, int]):
     return order, sorted_keys, by_key, distinct
 
 
-def _disc_power(box: np.ndarray, frequency_step: tuple[float, float], reach: float, outer: float) -> float:
-    """∫ over the disc of radius R about the axis of |E|²: Σ_q A_q D(|q|) over the lags q of
-    the band's autocorrelation A (Wiener–Khinchin: the inverse transform of |transform|²
-    of the zero-padded box; no lag wraps round), only lags up to twice the band's reach
-    (``reach``, 1/m) carry any. On a square lattice D is taken once per distinct |q|
-    (the lags summed by i² + j² first)."""
-    # at least 2n − 1 long (no lag wraps round), rounded up to a class shared between trials
-    shape = tuple(scipy.fft.next_fast_len(-(-(2 * size - 1) // _LAG_CLASS) * _LAG_CLASS) for size in box.shape)
-    # zero-padded along x on the box's rows only, then along y
-    workers = fft_workers(box.itemsize * shape[0] * shape[1])  # by the padded size
-    padded = scipy.fft.fft(scipy.fft.fft(box, n=shape[1], axis=1, workers=workers), n=shape[0], axis=0,
-                           overwrite_x=True, workers=workers)
-    spectrum = padded.real**2 + padded.imag**2
-    # only Re A is summed: the transform of the even part of |transform|², real and even, so
-    # half of it by irfft2
-    spectrum += np.roll(spectrum[::-1, ::-1], 1, axis=(0, 1))
-    lags = scipy.fft.irfft2(spectrum[:, : shape[1] // 2 + 1], s=shape, workers=workers) / 2
+def _disc_power(band: FieldBand, frequency_step: tuple[float, float], reach: float, outer: float,
+                axis: tuple[float, float]) -> float:
+    """∫ over the disc of radius R about ``axis`` of |E|²: Σ_q A'_q D(|q|) over the lags q of
+    the autocorrelation A' of the band moved to the axis (Wiener–Khinchin), only lags up to
+    twice the band's reach (``reach``, 1/m) carrying any. Moving the band by the phase
+    exp(2πi f·a) turns A_q into A_q exp(2πi q·a) (a = axis − the window's first sample), so
+    the band's own autocorrelation serves every axis; only Re A' is summed (A'(−q) is its
+    conjugate and D is even: one half-plane of lags, counted twice). On a square lattice D
+    is taken once per distinct |q| (the lags summed by i² + j² first)."""
+    lags = band.autocorrelation
+    shape = lags.shape
+    grid = band.grid
+    shift = np.multiply.outer(
+        np.exp(2j * math.pi * frequency_step[1] * (axis[1] - grid.y[0]) * scipy.fft.fftfreq(shape[0], 1.0 / shape[0])),
+        np.exp(2j * math.pi * frequency_step[0] * (axis[0] - grid.x[0]) * scipy.fft.fftfreq(shape[1], 1.0 / shape[1])))
     step = _common_step(frequency_step)
     if step is not None:
         order, sorted_keys, by_key, distinct = _lags_by_key(shape)
         count = int(np.searchsorted(sorted_keys, (2 * reach / step) ** 2 * (1 + 1e-12), side="right"))
-        near_lags = np.bincount(by_key[:count], weights=lags.ravel()[order[:count]])
+        near = order[:count]
+        near_lags = np.bincount(by_key[:count], weights=(lags.ravel()[near] * shift.ravel()[near]).real)
         q = step * np.sqrt(distinct[:near_lags.size])
     else:
         iy, ix, half, _ = _lag_lattice(shape)
         q_all = np.hypot(ix * frequency_step[0], iy * frequency_step[1])
         near = (q_all <= 2 * reach * (1 + 1e-12)) & half
-        q, near_lags = q_all[near], lags[near]
+        q, near_lags = q_all[near], (lags[near] * shift[near]).real
     disc = outer * scipy.special.j1(2 * math.pi * q * outer) / q  # D(q); D(0) = πR²
-    return float(lags[0, 0] * math.pi * outer**2 + 2 * (near_lags @ disc))
+    return float(lags[0, 0].real * math.pi * outer**2 + 2 * (near_lags @ disc))
 
 
 def charge_weight(band: FieldBand, axis: tuple[float, float], charge: int, outer: float) -> float:
@@ -460,7 +470,7 @@ def charge_weight(band: FieldBand, axis: tuple[float, float], charge: int, outer
                         + 1j * np.bincount(groups, weights=turned.imag, minlength=radii.size))
         in_charge = _charge_power(coefficients, radii, charge, outer)
         reach = float(rho.max()) / (2 * math.pi)
-    total = _disc_power(box, steps, reach, outer)
+    total = _disc_power(band, steps, reach, outer, axis)
     if not total > 0:
         raise MetricUnavailable("the field carries no power within the disc about the axis")
     return 2 * math.pi * in_charge / total
