@@ -178,13 +178,14 @@ class WaveSimulator:
         name = masks[index]
         element = realization.element(name)
         changed = {}
+        known_support = None  # the aperture box the stage found on the arriving grid
         if current is None:
             arriving, cells = self._first_field(realization, trace, name, masks, changed, replicas=replicas)
             method, stage_notes = "start", tuple(start_notes(realization, trace, name, arriving, cells))
             leaving_power = None
         else:
             stage = self._stage(realization, trace, masks[index - 1], name)
-            box = self._box_only(element, current, stage, cells)
+            box, box_grid = self._box_only(element, current, stage, cells)
             try:
                 result = propagate(current, stage.matrix_x, stage.matrix_y, plane=name, cells=cells,
                                    workers=self.workers, output_grid=self._target_grid(name, realization),
@@ -200,9 +201,10 @@ class WaveSimulator:
                 arriving = Field(arriving.values * np.float32(stage.amplitude), arriving.grid, arriving.wavelength,
                                  arriving.plane, support=arriving.support)
             method, stage_notes, cells = result.method, result.notes, None
+            known_support = box if box is not None and arriving.grid == box_grid else None
         passed, loss = arriving, None
         if element.type not in OBSERVATION_TYPES and element.type != "modulator":
-            passed = self._masked(element, arriving)
+            passed = self._masked(element, arriving, known_support)
             # Blocked here: all that left the previous plane and does not pass this mask,
             # replica orders outside the window included (they land on the mask's plate).
             leaving = leaving_power if leaving_power is not None else arriving.power
@@ -236,20 +238,25 @@ class WaveSimulator:
         return self._nominal_grids.get(name)
 
     def _box_only(self, element, current: Field, stage, cells):
-        """The box of a small aperture on the stage's output grid, when only that part of the
-        arriving field is needed (a study, and no spec reads this plane); else None."""
+        """(the box of a small aperture on the stage's output grid, that grid) when only that
+        part of the arriving field is needed (a study, and no spec reads this plane); else
+        (None, None)."""
         if self.full_planes is None or element.name in self.full_planes or element.type in self.plugin_masks \
                 or element.type in OBSERVATION_TYPES or element.type == "modulator":
-            return None
+            return None, None
         if element.type != "aperture" and element.value("clear_aperture") is None:
-            return None
+            return None, None
         grid = natural_output_grid(current.grid, stage.matrix_x, stage.matrix_y, current.wavelength, cells)
-        return aperture_support(element, grid)
+        return aperture_support(element, grid), grid
 
-    def _masked(self, element, arriving: Field) -> Field:
+    def _masked(self, element, arriving: Field, support=None) -> Field:
         """The field past an element's mask; past a small aperture, zero outside its box (kept
-        as the field's support, so the next stage transforms only the box's lines)."""
-        box = None if element.type in self.plugin_masks else aperture_support(element, arriving.grid)
+        as the field's support, so the next stage transforms only the box's lines).
+        ``support``: that box, where the stage has just found it on the arriving field's grid."""
+        if support is not None:
+            box = support
+        else:
+            box = None if element.type in self.plugin_masks else aperture_support(element, arriving.grid)
         if box is None:
             return arriving.replace(values=arriving.values * self._mask(element, arriving))
         inside = support_values(arriving, box)
