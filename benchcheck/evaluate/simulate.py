@@ -59,12 +59,11 @@ from benchcheck.optics.beam_trace import TraceResult
 from benchcheck.thread_pools import blas_on_one_thread
 from benchcheck.wave.beams import gaussian_field
 from benchcheck.wave.camera import camera_frame
-from benchcheck.wave.field import BoxedField, DeferredField, Field, RowTransformField, support_values, values_made
+from benchcheck.wave.field import BoxedField, DeferredField, Field, HeldColumnsField, support_values, values_made
 from benchcheck.wave.fft_backend import apply_fft_backend_from_environment
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.holograms import builtin_patterns
 from benchcheck.wave.stages import natural_output_grid, propagate
-from benchcheck.wave.zoomed_rows import ZoomedRowField
 
 __all__ = ["PlaneResult", "SimulationResult", "WaveSimulator", "DEFAULT_WINDOW_RADII"]
 
@@ -195,7 +194,7 @@ class WaveSimulator:
                                     f"around '{name}')") from None
             arriving = result.field
             leaving_power = (state["incident_power"] if cells is not None else current.power) * stage.amplitude**2
-            if stage.amplitude != 1.0 and isinstance(arriving, (BoxedField, RowTransformField, ZoomedRowField)):
+            if stage.amplitude != 1.0 and isinstance(arriving, (BoxedField, HeldColumnsField)):
                 arriving = arriving.scaled(stage.amplitude)  # still without its window
             elif stage.amplitude != 1.0:
                 arriving = Field(arriving.values * np.float32(stage.amplitude), arriving.grid, arriving.wavelength,

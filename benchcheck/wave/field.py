@@ -11,7 +11,8 @@ import numpy as np
 
 from benchcheck.wave.grid import Grid
 
-__all__ = ["Field", "DeferredField", "BoxedField", "RowTransformField", "values_made", "support_values"]
+__all__ = ["Field", "DeferredField", "BoxedField", "HeldColumnsField", "RowTransformField", "values_made",
+           "support_values"]
 
 # |output factor| may vary by this much (relative) across a row transform: a chirp times a
 # constant varies by float32 rounding alone
@@ -219,7 +220,36 @@ def _dirichlet_by_lag(n: int, sign: int, held: int, width: int) -> np.ndarray:
     return matrix
 
 
-class RowTransformField(Field):
+class HeldColumnsField(Field):
+    """A field whose every row is a transform along x of a few columns it holds (``lines``,
+    rows x columns, with ``gram_from``: a function giving their Gram matrix, or None); the
+    window is made only when ``values`` is read. The kinds say which transform."""
+
+    @property
+    def dtype(self) -> np.dtype:
+        return self.lines.dtype
+
+    def __reduce__(self):
+        return Field, (self.values, self.grid, self.wavelength, self.plane)  # pickled as made
+
+    @cached_property
+    def gram(self) -> np.ndarray:
+        """G[j, j'] = Σ over rows of lines[r, j] conj(lines[r, j']), double precision (read-only)."""
+        gram = self.gram_from() if self.gram_from is not None else held_columns_gram(self.lines)
+        gram.flags.writeable = False
+        return gram
+
+    def scaled(self, amplitude: float) -> "HeldColumnsField":
+        """The same field times a real ``amplitude`` (float32, as a stage's transmission)."""
+        gram = None if self.gram_from is None else lambda: self.gram * float(np.float32(amplitude)) ** 2
+        return self.with_lines(self.lines * np.float32(amplitude), gram)
+
+    def with_lines(self, lines: np.ndarray, gram: Callable[[], np.ndarray] | None) -> "HeldColumnsField":
+        """The same transform of other held columns."""
+        raise NotImplementedError
+
+
+class RowTransformField(HeldColumnsField):
     """A field whose every row is a DFT along x of a few nonzero samples, held as those samples.
 
         values[r, m] = factor[m] · Σ_j lines[r, j] exp(−2πi · sign · (first + j) · m / N)
@@ -244,20 +274,6 @@ class RowTransformField(Field):
                              plane=plane, support=None, gram_from=gram)
 
     @cached_property
-    def gram(self) -> np.ndarray:
-        """G[j, j'] = Σ over rows of lines[r, j] conj(lines[r, j']), double precision (read-only)."""
-        gram = self.gram_from() if self.gram_from is not None else held_columns_gram(self.lines)
-        gram.flags.writeable = False
-        return gram
-
-    @property
-    def dtype(self) -> np.dtype:
-        return self.lines.dtype
-
-    def __reduce__(self):
-        return Field, (self.values, self.grid, self.wavelength, self.plane)  # pickled as made
-
-    @cached_property
     def values(self) -> np.ndarray:  # noqa: D102 - the window, transformed now
         import scipy.fft
 
@@ -273,11 +289,8 @@ class RowTransformField(Field):
         window *= self.factor[np.newaxis, :]
         return window
 
-    def scaled(self, amplitude: float) -> "RowTransformField":
-        """The same field times a real ``amplitude`` (float32, as a stage's transmission)."""
-        gram = None if self.gram_from is None else lambda: self.gram * float(np.float32(amplitude)) ** 2
-        return RowTransformField(self.lines * np.float32(amplitude), self.first, self.sign, self.factor, self.grid,
-                                 self.wavelength, self.plane, gram)
+    def with_lines(self, lines: np.ndarray, gram: Callable[[], np.ndarray] | None) -> "RowTransformField":
+        return RowTransformField(lines, self.first, self.sign, self.factor, self.grid, self.wavelength, self.plane, gram)
 
     def rows_power(self, rows: slice = slice(None)) -> float:
         """Σ|values|² over ``rows`` (no sample area), by Parseval along each row."""

@@ -17,8 +17,7 @@ from typing import Literal
 import numpy as np
 import scipy.fft
 
-from benchcheck.wave.field import BoxedField, Field, RowTransformField
-from benchcheck.wave.zoomed_rows import ZoomedRowField
+from benchcheck.wave.field import BoxedField, Field, HeldColumnsField
 from benchcheck.wave.grid import Grid
 
 __all__ = [
@@ -108,7 +107,7 @@ def edge_energy(field: Field, border_fraction: float = 0.05) -> float:
         return 0.0
     if 2 * by >= ny or 2 * bx >= nx:
         return 1.0
-    if isinstance(field, (RowTransformField, ZoomedRowField)):  # from the held columns alone
+    if isinstance(field, HeldColumnsField):  # from the held columns alone
         band = field.rows_power(slice(0, by)) + field.rows_power(slice(ny - by, ny))
         band += field.side_columns_power(bx, slice(by, ny - by))
         return min(1.0, max(0.0, band / total))

@@ -18,7 +18,7 @@ from functools import cached_property
 import numpy as np
 
 from benchcheck.wave.direct_dft import dft_matrix, direct_dft
-from benchcheck.wave.field import Field, held_columns_gram, one_modulus_power, rows_gram, set_field_attributes
+from benchcheck.wave.field import HeldColumnsField, held_columns_gram, one_modulus_power, rows_gram, set_field_attributes
 from benchcheck.wave.grid import Grid
 
 __all__ = ["ZoomedRowField"]
@@ -28,7 +28,7 @@ __all__ = ["ZoomedRowField"]
 _NEAR_PERIOD = 1e-3
 
 
-class ZoomedRowField(Field):
+class ZoomedRowField(HeldColumnsField):
     """values[r, m] = factor[m] · Σ_j lines[r, j] exp(−2πi α (first + j) m), m < grid.nx.
 
     ``factor`` (the stage's output factor) must have one modulus (checked). ``gram``, where
@@ -44,31 +44,14 @@ class ZoomedRowField(Field):
                              factor_power=one_modulus_power(factor), grid=grid, wavelength=wavelength,
                              plane=plane, support=None, gram_from=gram)
 
-    @property
-    def dtype(self) -> np.dtype:
-        return self.lines.dtype
-
-    def __reduce__(self):
-        return Field, (self.values, self.grid, self.wavelength, self.plane)  # pickled as made
-
     @cached_property
     def values(self) -> np.ndarray:  # noqa: D102 - the window, transformed now
         window = direct_dft(np.ascontiguousarray(self.lines), self.alpha, self.grid.nx, 1, self.first)
         window *= self.factor[np.newaxis, :]
         return window
 
-    @cached_property
-    def gram(self) -> np.ndarray:
-        """G[j, j'] = Σ over rows of lines[r, j] conj(lines[r, j']), double precision (read-only)."""
-        gram = self.gram_from() if self.gram_from is not None else held_columns_gram(self.lines)
-        gram.flags.writeable = False
-        return gram
-
-    def scaled(self, amplitude: float) -> "ZoomedRowField":
-        """The same field times a real ``amplitude`` (float32, as a stage's transmission)."""
-        gram = None if self.gram_from is None else lambda: self.gram * float(np.float32(amplitude)) ** 2
-        return ZoomedRowField(self.lines * np.float32(amplitude), self.first, self.alpha, self.factor, self.grid,
-                              self.wavelength, self.plane, gram)
+    def with_lines(self, lines: np.ndarray, gram: Callable[[], np.ndarray] | None) -> "ZoomedRowField":
+        return ZoomedRowField(lines, self.first, self.alpha, self.factor, self.grid, self.wavelength, self.plane, gram)
 
     def _sum_over_columns(self, gram: np.ndarray, *columns: tuple[int, int]) -> float:
         """Σ over the rows of ``gram`` and the output columns [start, stop) of |values|²: summed
