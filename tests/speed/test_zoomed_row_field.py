@@ -2,8 +2,9 @@
 few columns (ZoomedRowField): its values, made when read, are the zoomed DFT of those columns
 (checked against the sum written out with numpy in double precision); its power and window
 check follow from the columns alone, and its overlap with a fixed target from the target's
-truncated SVD (Eckart–Young: the best rank-r approximation in the Frobenius norm), all within
-float32 rounding of the window made in full."""
+truncated SVD (the best approximation of its rank in the Frobenius norm: Eckart and Young,
+Psychometrika 1, 211 (1936), from memory), whose error on an overlap the Cauchy–Schwarz
+inequality bounds; all within float32 rounding of the window made in full."""
 
 from __future__ import annotations
 
