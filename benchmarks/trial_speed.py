@@ -6,8 +6,7 @@ worker scaling and a projection to 10,000 trials (run by hand; nothing here is a
 
 Every number is measured side by side in one run and printed as a ratio:
 
-* per-trial time of the Evaluator on drawn trials (as a long study runs them: after as many
-  trials as a study's fixed target serves before it is factored, wave/overlaps.py), against the FFT
+* per-trial time of the Evaluator on drawn trials (as a study runs them), against the FFT
   floor: the same number of ``scipy.fft`` 2-D transforms of the same size and precision that
   the trial's own field needs (two for the modulator stage with its flat dead space, one per
   further Fourier stage), timed right after each trial: the median of the trials' ratios to
@@ -56,7 +55,6 @@ from benchcheck.tolerance.samplers import Sampler
 from benchcheck.tolerance.study import run_study
 from benchcheck.tolerance.workers import build_runner, use_one_fft_thread
 from benchcheck.wave.fft_backend import fft_backend_available, use_fft_backend
-from benchcheck.wave.overlaps import FACTOR_AFTER_USES
 from benchcheck.wave.field import Field
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.pixel_cells import upsample_cells
@@ -144,12 +142,8 @@ def _trial_times(path: Path, trials: int, fft_threads: int = -1) -> dict:
     layout = load_layout(path)
     evaluator = make_evaluator(layout, study=True)  # as a study's trials run
     evaluator.simulate.workers = fft_threads
-    warm_up = FACTOR_AFTER_USES  # a long study's state: its fixed target is factored by then
-    drawn = Sampler(tuple(resolve_dofs(layout)), "random", 11).perturbations(0, trials + 2 + warm_up)
-    perturbations, earlier = drawn[:trials + 2], drawn[trials + 2:]
+    perturbations = Sampler(tuple(resolve_dofs(layout)), "random", 11).perturbations(0, trials + 2)
     nominal = evaluator.evaluate(wave=True)  # builds the nominal caches, as a study's first trial does
-    for perturbation in earlier:
-        evaluator.evaluate(perturbation)
     stages = sum(1 for plane in nominal.simulation.planes.values() if plane.method != "start")
     transforms = stages + 1  # the flat dead space's transform at the modulator stage
     recorded = _recorded_transforms(evaluator, perturbations[-1])  # a trial not seen before: its target is made

@@ -63,6 +63,7 @@ from benchcheck.wave.field import BoxedField, DeferredField, Field, HeldColumnsF
 from benchcheck.wave.fft_backend import apply_fft_backend_from_environment
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.holograms import builtin_patterns
+from benchcheck.wave.overlaps import mark_reused
 from benchcheck.wave.stages import natural_output_grid, propagate
 
 __all__ = ["PlaneResult", "SimulationResult", "WaveSimulator", "DEFAULT_WINDOW_RADII"]
@@ -347,7 +348,10 @@ class WaveSimulator:
         if key in self._targets:
             self._targets.move_to_end(key)
         else:
-            self._targets[key] = self._target(result.name, result.field.grid)
+            self._targets[key] = target = self._target(result.name, result.field.grid)
+            if target is not None and result.name in self.target_planes \
+                    and result.field.grid == self._nominal_grids.get(result.name):
+                mark_reused(target)  # where a study's trials land: every one of them meets it
             while len(self._targets) > self.TARGETS_KEPT:
                 self._targets.popitem(last=False)
         return self._targets[key]

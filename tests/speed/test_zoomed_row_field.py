@@ -91,18 +91,20 @@ def test_the_sums_over_columns_are_the_geometric_series(alpha):
     assert np.allclose(sums, direct, rtol=0, atol=1e-12)
 
 
-def test_a_study_trial_landing_on_the_target_grid_keeps_its_columns_and_its_purity(tmp_path, monkeypatch):
+def test_a_study_trial_landing_on_the_target_grid_keeps_its_columns_and_its_purity(tmp_path):
     # A study's trial lands on the nominal camera grid, where its target is: where the second
     # lens's focal length is off, the natural pitch is too (p f₂/f₁), so x is a zoomed DFT.
     # Its camera field is held as columns and never made, and mode purity through the
     # target's truncated SVD equals the normalised overlap of the two windows made in full:
     # the SVD leaves out 1e-13 of the target's energy (at most 6.3e-7 on a purity, by
-    # Cauchy–Schwarz), the rest is float32 rounding (1e-6).
-    monkeypatch.setattr(overlaps, "FACTOR_AFTER_USES", 1)
+    # Cauchy–Schwarz), the rest is float32 rounding (1e-6). The value does not depend on the
+    # trials evaluated before (a fresh evaluator gives the same number to the last bit), so
+    # studies agree whatever their number of workers.
     path = tmp_path / "relay.toml"
     path.write_text(_relay_with_purity())
     study = make_evaluator(load_layout(path), study=True)
-    for excursion in ({"relay.lens2.focal_length": 2e-3}, {"slm.x": 2e-6, "relay.lens2.focal_length": -1e-3}):
+    excursions = ({"relay.lens2.focal_length": 2e-3}, {"slm.x": 2e-6, "relay.lens2.focal_length": -1e-3})
+    for excursion in excursions:
         trial = study.evaluate(excursion, wave=True)
         camera = trial.simulation.planes["cam"].field
         assert isinstance(camera, ZoomedRowField) and not values_made(camera)
@@ -110,21 +112,22 @@ def test_a_study_trial_landing_on_the_target_grid_keeps_its_columns_and_its_puri
         expected = normalised_overlap(camera.values, target.values)
         assert expected > 0.5  # a purity worth comparing
         assert trial.metrics["cam.mode_purity"] == pytest.approx(expected, rel=1e-6)
+    fresh = make_evaluator(load_layout(path), study=True).evaluate(excursions[-1], wave=True)
+    assert fresh.metrics["cam.mode_purity"] == trial.metrics["cam.mode_purity"]
 
 
-def test_the_target_is_factored_only_after_it_has_served_enough_overlaps(monkeypatch):
-    # Short studies never pay for the SVD; once made, the overlap through it equals the
-    # inner product of the windows (the target here has rank 2, so nothing is left out:
-    # float32 rounding of the window, 1e-6 of the product's scale).
-    monkeypatch.setattr(overlaps, "FACTOR_AFTER_USES", 3)
+def test_only_a_target_marked_as_reused_is_factored():
+    # A target that meets one trial (carried onto that trial's grid) goes the windows' way;
+    # one marked as a study's fixed target through its SVD. Both equal the inner product of
+    # the windows in double precision (the target here has rank 2, so the SVD leaves nothing
+    # out): float32 rounding of the window, 1e-6 of the product's scale.
     x = np.arange(N) - N / 2
     target = Field((np.outer(np.exp(-(x / 9) ** 2), np.exp(-(x / 7) ** 2) * (1 + 0.2j * x))
                     + np.outer(x / 30, np.ones(N))).astype(np.complex64), Grid.square(N, 10e-6), 1.064e-6, "cam")
-    results = []
-    for _ in range(4):
-        field = _field()
-        results.append((overlaps.overlap(target, field), values_made(field)))
-    assert [made for _, made in results] == [True, True, False, False]
     exact = inner_product(target.values.astype(np.complex128), _reference(_field()))
     scale = np.sqrt(target.power * _field().power) / target.grid.sample_area
-    assert all(abs(value - exact) <= 1e-6 * scale for value, _ in results)
+    once = _field()
+    assert abs(overlaps.overlap(target, once) - exact) <= 1e-6 * scale and values_made(once)
+    overlaps.mark_reused(target)
+    reused = _field()
+    assert abs(overlaps.overlap(target, reused) - exact) <= 1e-6 * scale and not values_made(reused)
