@@ -6,7 +6,10 @@ limit: past it, the signal's handler raises in the metric, which stops where it 
 Python loop, a sleep or a wait on a lock alike; a call inside compiled code stops when it
 returns) and is recorded as failed. Arming and disarming cost a few microseconds, where the
 hand-over to another thread below cost a study's trial of the 4f example 0.65 ms at 512 and
-0.9 ms at 1024 (waking the idle core; measured side by side).
+0.9 ms at 1024 (waking the idle core; measured side by side). The handler, once installed,
+stays; a SIGALRM that comes while no metric runs is ignored (a program that relied on the
+default action, ending the process, should install its own handler first, which is then
+left alone).
 
 Where no timer signal is to be had (a thread other than the main one, as a dask worker's;
 a platform without SIGALRM; a handler for it that is not ours), a metric runs on a helper
