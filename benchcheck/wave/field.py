@@ -290,7 +290,8 @@ class RowTransformField(HeldColumnsField):
         return window
 
     def with_lines(self, lines: np.ndarray, gram: Callable[[], np.ndarray] | None) -> "RowTransformField":
-        return RowTransformField(lines, self.first, self.sign, self.factor, self.grid, self.wavelength, self.plane, gram)
+        return RowTransformField(lines, self.first, self.sign, self.factor, self.grid, self.wavelength, self.plane,
+                                 gram)
 
     def rows_power(self, rows: slice = slice(None)) -> float:
         """Σ|values|² over ``rows`` (no sample area), by Parseval along each row."""

@@ -18,7 +18,8 @@ from functools import cached_property
 import numpy as np
 
 from benchcheck.wave.direct_dft import dft_matrix, direct_dft
-from benchcheck.wave.field import HeldColumnsField, held_columns_gram, one_modulus_power, rows_gram, set_field_attributes
+from benchcheck.wave.field import (HeldColumnsField, held_columns_gram, one_modulus_power, rows_gram,
+                                   set_field_attributes)
 from benchcheck.wave.grid import Grid
 
 __all__ = ["ZoomedRowField"]

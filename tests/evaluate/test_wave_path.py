@@ -36,7 +36,8 @@ def test_stages_from_the_traced_actions_are_those_of_acting_again(path):
         # the wave path's own stages, each element to the next, and the whole path at once
         pairs = list(zip(masks, masks[1:])) + list(zip(path, path[1:])) + [(path[0], path[-1])]
         for start, end in pairs:
-            kept, fresh = stage_between(realization, trace, start, end), stage_between(realization, untraced, start, end)
+            kept = stage_between(realization, trace, start, end)
+            fresh = stage_between(realization, untraced, start, end)
             assert np.array_equal(kept.matrix_x, fresh.matrix_x) and np.array_equal(kept.matrix_y, fresh.matrix_y)
             assert kept.amplitude == fresh.amplitude
             compared += 1

@@ -52,7 +52,8 @@ def _relay_with_purity() -> str:
     """The 4f example on a 256-sample window (32 µm pixels, the carrier 4 of them long, the
     iris moved to its first order by the grating equation x = λ f / Λ: half as far), with its
     paraxial specs and mode purity (its OAM spec reads the window itself)."""
-    text = LAYOUT.read_text().replace("grid = 1024", "grid = 256").replace('pixel_pitch = "8 um"', 'pixel_pitch = "32 um"')
+    text = LAYOUT.read_text().replace("grid = 1024", "grid = 256")
+    text = text.replace('pixel_pitch = "8 um"', 'pixel_pitch = "32 um"')
     text = text.replace("carrier = { period_px = 8,", "carrier = { period_px = 4,")
     text = text.replace('center = ["4.99 mm", "0 mm"]', 'center = ["2.495 mm", "0 mm"]')
     text = re.sub(r'\[\[spec\]\]\nmetric = "(?!beam_radius"|offset")[^\n]*\n(?:[a-z_]+ = [^\n]*\n)*\n?', "", text)
