@@ -17,6 +17,8 @@ import pytest
 import benchcheck.wave.overlaps as overlaps
 from benchcheck.api import load_layout
 from benchcheck.evaluate.factory import make_evaluator
+from benchcheck.plugin_manager import make_plugin_manager
+from benchcheck.tolerance.study import run_study
 from benchcheck.wave.field import Field, values_made
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.sampling import edge_energy
@@ -132,3 +134,16 @@ def test_only_a_target_marked_as_reused_is_factored():
     overlaps.mark_reused(target)
     reused = _field()
     assert abs(overlaps.overlap(target, reused) - exact) <= 1e-6 * scale and not values_made(reused)
+
+
+def test_a_mode_purity_study_gives_the_same_records_with_two_workers(tmp_path):
+    # Each worker process factors the target at its own first overlap; which way an overlap
+    # goes depends on the trial alone, so the records equal one worker's to the last bit
+    # (a study promises the same numbers whatever its workers: the README, "Large studies").
+    path = tmp_path / "relay.toml"
+    path.write_text(_relay_with_purity())
+    plugins = make_plugin_manager()
+    one = run_study(load_layout(path, plugins), plugins, trials=12, workers=1)
+    two = run_study(load_layout(path, plugins), plugins, trials=12, workers=2)
+    assert [record.metrics for record in one.records] == [record.metrics for record in two.records]
+    assert all(record.metrics.get("cam.mode_purity") is not None for record in one.records)
