@@ -1,7 +1,7 @@
 """Full tolerance trials of the 4f example against the FFT floor, a step-by-step reference,
 worker scaling and a projection to 10,000 trials (run by hand; nothing here is a test).
 
-    python3 benchmarks/trial_speed.py [--grids 256 512 1024] [--trials 64] [--study-grid 1024]
+    python3 benchmarks/trial_speed.py [--grids [256 512 1024]] [--trials 64] [--study-grid 1024]
                                       [--study-trials 200] [--reference-grid 1024]
 
 Every number is measured side by side in one run and printed as a ratio:
@@ -23,7 +23,9 @@ Every number is measured side by side in one run and printed as a ratio:
   thread; before and after the studies, averaged), a study in this process (FFTs on all
   cores) and one with 2 worker processes (spawn), trials per second with and without
   start-up, the gain from the second core and the time 10,000 trials would take with 2
-  workers;
+  workers; then what the 2-worker study pays per trial against the FFT floor on all cores,
+  and a worker's trial (one FFT thread) against the floor on one thread (both beside the
+  per-trial ratios above, which time one trial alone with the transforms on all cores);
 * the collapsed stages against a plain step-by-step reference written here: band-limited
   angular-spectrum propagation (Matsushima and Shimobaba, Opt. Express 17, 19662 (2009))
   through every gap, each lens a phase mask exp(−iπ r²/(λf)) (thin lens, DESIGN.md §4), the
@@ -102,6 +104,12 @@ def _layout_copy(folder: Path, grid: int, spec: str, fill_factor: float | None =
 _TRANSFORMS = ("fft", "ifft", "fft2", "ifft2")
 
 
+def _floor_transforms(nominal) -> int:
+    """The floor's 2-D transforms for a trial like ``nominal``: one per stage, one more for the
+    flat dead space at the modulator stage."""
+    return sum(1 for plane in nominal.simulation.planes.values() if plane.method != "start") + 1
+
+
 def _recorded_transforms(evaluator, perturbation) -> list[tuple[str, np.ndarray, dict]]:
     """The scipy.fft transforms one trial makes (its metrics' and targets' included): for each,
     the function's name, an input of the same shape and precision, and its size and axes."""
@@ -144,8 +152,7 @@ def _trial_times(path: Path, trials: int, fft_threads: int = -1) -> dict:
     evaluator.simulate.workers = fft_threads
     perturbations = Sampler(tuple(resolve_dofs(layout)), "random", 11).perturbations(0, trials + 2)
     nominal = evaluator.evaluate(wave=True)  # builds the nominal caches, as a study's first trial does
-    stages = sum(1 for plane in nominal.simulation.planes.values() if plane.method != "start")
-    transforms = stages + 1  # the flat dead space's transform at the modulator stage
+    transforms = _floor_transforms(nominal)
     recorded = _recorded_transforms(evaluator, perturbations[-1])  # a trial not seen before: its target is made
     grid = nominal.simulation.planes[next(iter(nominal.simulation.planes))].field.grid.nx
     floor_input = (np.random.default_rng(1).standard_normal((grid, grid)) + 0j).astype(np.complex64)
@@ -292,7 +299,8 @@ def _reference(path: Path) -> dict:
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--grids", type=int, nargs="+", default=[256, 512, 1024])
+    parser.add_argument("--grids", type=int, nargs="*", default=[256, 512, 1024],
+                        help="grids of the per-trial lines (none: only the study and the reference)")
     parser.add_argument("--trials", type=int, default=64, help="drawn trials timed per grid")
     parser.add_argument("--study-grid", type=int, default=1024)
     parser.add_argument("--study-trials", type=int, default=200, help="0: no study")
@@ -350,6 +358,25 @@ def _print_study(folder: Path, grid: int, trials: int) -> None:
     projected = 10_000 / two
     print(f"  projected 10,000 trials with 2 workers: {projected / 60:6.1f} min "
           f"({1e3 / two:.0f} ms per trial; target under 10 min)")
+    # what a study pays per trial, beside the per-trial ratios above (which time one trial alone)
+    transforms = _floor_transforms(make_evaluator(load_layout(study_path), study=True).evaluate(wave=True))
+    floor_all, floor_one = _floor_time(grid, transforms, -1), _floor_time(grid, transforms, 1)
+    print(f"  per trial against the floor ({transforms} fft2 of the grid): the 2-worker study "
+          f"{1e3 / two:.1f} ms against {floor_all * 1e3:.1f} ms on all cores, ratio {1 / two / floor_all:5.2f}; "
+          f"a worker's trial (one FFT thread) {1e3 / core:.1f} ms against {floor_one * 1e3:.1f} ms on one "
+          f"thread, ratio {1 / core / floor_one:5.2f}")
+
+
+def _floor_time(grid: int, transforms: int, workers: int, repeats: int = 30) -> float:
+    """Median time of ``transforms`` 2-D scipy.fft transforms of the grid (complex64) on ``workers`` threads."""
+    values = (np.random.default_rng(1).standard_normal((grid, grid)) + 0j).astype(np.complex64)
+    times = []
+    for _ in range(repeats):
+        start = time.perf_counter()
+        for _ in range(transforms):
+            scipy.fft.fft2(values, workers=workers)
+        times.append(time.perf_counter() - start)
+    return float(np.median(times))
 
 
 def _print_reference(folder: Path, grid: int) -> None:

@@ -28,6 +28,7 @@ def test_trial_speed_prints_its_ratios():
                   "--study-trials", "4", "--reference-grid", "128")
     assert "ratio" in output and "fft2" in output
     assert "from the second core" in output and "projected 10,000 trials" in output
+    assert "the 2-worker study" in output and "a worker's trial (one FFT thread)" in output
     assert "example spec" in output and "mode purity" in output and "step-by-step reference" in output
 
 
