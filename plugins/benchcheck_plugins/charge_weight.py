@@ -244,7 +244,8 @@ def _row_transform_spectrum(field: RowTransformField, wavenumber_slope: float):
     if field.sign < 0:
         hankel = hankel[:, ::-1]
     # a copy: BLAS cannot read the view's overlapping rows, and numpy's own loop for it took
-    # 2-4 times as long as the copy and the BLAS product together (512 x 43)
+    # up to 4 times as long as the copy and the BLAS product together (512 x 43; 1.25 times
+    # on the one BLAS thread of a trial)
     hankel = np.ascontiguousarray(hankel)
     # Re Σ_j (H M)[q, j] conj(H[q, j]): the real and imaginary parts side by side, one pass
     column_power = np.einsum("qj,qj->q", (hankel @ field.gram).view(np.float64), hankel.view(np.float64))
