@@ -18,6 +18,10 @@ __all__ = ["Field", "DeferredField", "BoxedField", "HeldColumnsField", "RowTrans
 # constant varies by float32 rounding alone
 _ONE_MODULUS = 1e-5
 
+# Below this |sin(π α d)| a lag's sum over the columns is added term by term: the closed
+# form's quotient loses digits as its denominator vanishes (α d near an integer).
+_NEAR_PERIOD = 1e-3
+
 
 @dataclass(frozen=True, eq=False)
 class Field:
@@ -208,22 +212,11 @@ def _roots_of_unity(n: int, sign: int, dtype_name: str) -> np.ndarray:
     return roots
 
 
-@functools.lru_cache(maxsize=8)
-def _dirichlet_by_lag(n: int, sign: int, held: int, width: int) -> np.ndarray:
-    """conj K(j − j') as a held x held matrix, K(d) = Σ_m exp(−2πi · sign · d m / n) over the
-    ``width`` columns at each side of a window of n (m = −width..width − 1), so that
-    Σ_{j,j'} G[j, j'] K(j − j') is ``np.vdot`` of it with G (read-only, shared)."""
-    lags = np.arange(-(held - 1), held)
-    sums = np.exp((-2j * np.pi * sign / n) * np.multiply.outer(lags, np.arange(-width, width))).sum(axis=1)
-    matrix = sums[np.subtract.outer(np.arange(held), np.arange(held)) + held - 1].conj()
-    matrix.flags.writeable = False
-    return matrix
-
-
 class HeldColumnsField(Field):
     """A field whose every row is a transform along x of a few columns it holds (``lines``,
     rows x columns, with ``gram_from``: a function giving their Gram matrix, or None); the
-    window is made only when ``values`` is read. The kinds say which transform."""
+    window is made only when ``values`` is read. The kinds say which transform: each row is
+    factor[m] Σ_j lines[r, j] exp(−2πi α (first + j) m), their ``alpha`` the rate."""
 
     @property
     def dtype(self) -> np.dtype:
@@ -247,6 +240,14 @@ class HeldColumnsField(Field):
     def with_lines(self, lines: np.ndarray, gram: Callable[[], np.ndarray] | None) -> "HeldColumnsField":
         """The same transform of other held columns."""
         raise NotImplementedError
+
+    def _sum_over_columns(self, gram: np.ndarray, *columns: tuple[int, int]) -> float:
+        """Σ over the rows of ``gram`` and the output columns [start, stop) of |values|², for rows
+        that are factor[m] Σ_j g_j exp(−2πi α (first + j) m) (``alpha``): summed over m,
+        |Σ_j g_j exp(−2πi α (first + j) m)|² is Σ_{j,j'} g_j conj(g_j') S(j − j'),
+        S(d) = Σ_m exp(−2πi α d m)."""
+        sums = sum(_lag_sums(self.alpha, self.lines.shape[1], start, stop) for start, stop in columns)
+        return self.factor_power * float(np.vdot(sums[_lag_index(self.lines.shape[1])].conj(), gram).real)
 
 
 class RowTransformField(HeldColumnsField):
@@ -289,6 +290,11 @@ class RowTransformField(HeldColumnsField):
         window *= self.factor[np.newaxis, :]
         return window
 
+    @property
+    def alpha(self) -> float:
+        """The transform's rate: exp(−2πi α k m) with α = sign / N."""
+        return self.sign / self.grid.nx
+
     def with_lines(self, lines: np.ndarray, gram: Callable[[], np.ndarray] | None) -> "RowTransformField":
         return RowTransformField(lines, self.first, self.sign, self.factor, self.grid, self.wavelength, self.plane,
                                  gram)
@@ -318,9 +324,35 @@ class RowTransformField(HeldColumnsField):
         if self.gram_from is None:
             strips = self.columns(np.r_[0:width, self.grid.nx - width:self.grid.nx], rows)
             return float(np.vdot(strips, strips).real)
-        dirichlet = _dirichlet_by_lag(self.grid.nx, self.sign, self.lines.shape[1], width)
-        return self.factor_power * float(np.vdot(dirichlet, rows_gram(self.gram, self.lines, rows)).real)
+        return self._sum_over_columns(rows_gram(self.gram, self.lines, rows), (0, width),
+                                      (self.grid.nx - width, self.grid.nx))
 
     @cached_property
     def power(self) -> float:  # noqa: D102 - from the lines alone
         return self.rows_power() * self.grid.sample_area
+
+
+def _lag_sums(alpha: float, held: int, start: int, stop: int) -> np.ndarray:
+    """S(d) = Σ_{m=start}^{stop−1} exp(−2πi α d m) for d = −(held − 1) .. held − 1: the
+    geometric series, exp(−iθ (start + stop − 1)) sin(θ n) / sin θ with θ = π α d and n the
+    count, term by term where sin θ nearly vanishes."""
+    lags = np.arange(-(held - 1), held)
+    theta = np.pi * alpha * lags
+    count = stop - start
+    denominator = np.sin(theta)
+    near = np.abs(denominator) < _NEAR_PERIOD
+    sums = np.empty(lags.size, np.complex128)
+    far = ~near
+    sums[far] = (np.exp(-1j * theta[far] * (start + stop - 1)) * np.sin(theta[far] * count) / denominator[far])
+    if near.any():
+        columns = np.arange(start, stop)
+        sums[near] = np.exp(-2j * np.pi * alpha * np.multiply.outer(lags[near], columns)).sum(axis=1)
+    return sums
+
+
+@functools.lru_cache(maxsize=8)
+def _lag_index(held: int) -> np.ndarray:
+    """j − j' + held − 1 for a held x held matrix (read-only)."""
+    index = np.subtract.outer(np.arange(held), np.arange(held)) + held - 1
+    index.flags.writeable = False
+    return index

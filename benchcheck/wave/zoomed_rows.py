@@ -11,7 +11,6 @@ overlap with a fixed target from the target's low-rank form (``wave/overlaps.py`
 
 from __future__ import annotations
 
-import functools
 from collections.abc import Callable
 from functools import cached_property
 
@@ -23,10 +22,6 @@ from benchcheck.wave.field import (HeldColumnsField, held_columns_gram, one_modu
 from benchcheck.wave.grid import Grid
 
 __all__ = ["ZoomedRowField"]
-
-# Below this |sin(π α d)| a lag's sum over the columns is added term by term: the closed
-# form's quotient loses digits as its denominator vanishes (α d near an integer).
-_NEAR_PERIOD = 1e-3
 
 
 class ZoomedRowField(HeldColumnsField):
@@ -54,13 +49,6 @@ class ZoomedRowField(HeldColumnsField):
     def with_lines(self, lines: np.ndarray, gram: Callable[[], np.ndarray] | None) -> "ZoomedRowField":
         return ZoomedRowField(lines, self.first, self.alpha, self.factor, self.grid, self.wavelength, self.plane, gram)
 
-    def _sum_over_columns(self, gram: np.ndarray, *columns: tuple[int, int]) -> float:
-        """Σ over the rows of ``gram`` and the output columns [start, stop) of |values|²: summed
-        over m, |Σ_j g_j exp(−2πi α (first + j) m)|² is Σ_{j,j'} g_j conj(g_j') S(j − j'),
-        S(d) = Σ_m exp(−2πi α d m)."""
-        sums = sum(_lag_sums(self.alpha, self.lines.shape[1], start, stop) for start, stop in columns)
-        return self.factor_power * float(np.vdot(sums[_lag_index(self.lines.shape[1])].conj(), gram).real)
-
     def rows_power(self, rows: slice = slice(None)) -> float:
         """Σ|values|² over ``rows`` (no sample area), without the window."""
         gram = self.gram if rows == slice(None) else held_columns_gram(self.lines[rows])
@@ -84,29 +72,3 @@ class ZoomedRowField(HeldColumnsField):
         kernel = dft_matrix(self.lines.shape[1], self.grid.nx, self.alpha, self.first, np.complex128)
         along_columns = kernel @ (self.factor.astype(np.complex128)[:, np.newaxis] * columns)  # [j, k]
         return complex(np.einsum("k,kj,jk->", weights, along_rows, along_columns))
-
-
-def _lag_sums(alpha: float, held: int, start: int, stop: int) -> np.ndarray:
-    """S(d) = Σ_{m=start}^{stop−1} exp(−2πi α d m) for d = −(held − 1) .. held − 1: the
-    geometric series, exp(−iθ (start + stop − 1)) sin(θ n) / sin θ with θ = π α d and n the
-    count, term by term where sin θ nearly vanishes."""
-    lags = np.arange(-(held - 1), held)
-    theta = np.pi * alpha * lags
-    count = stop - start
-    denominator = np.sin(theta)
-    near = np.abs(denominator) < _NEAR_PERIOD
-    sums = np.empty(lags.size, np.complex128)
-    far = ~near
-    sums[far] = (np.exp(-1j * theta[far] * (start + stop - 1)) * np.sin(theta[far] * count) / denominator[far])
-    if near.any():
-        columns = np.arange(start, stop)
-        sums[near] = np.exp(-2j * np.pi * alpha * np.multiply.outer(lags[near], columns)).sum(axis=1)
-    return sums
-
-
-@functools.lru_cache(maxsize=8)
-def _lag_index(held: int) -> np.ndarray:
-    """j − j' + held − 1 for a held x held matrix (read-only)."""
-    index = np.subtract.outer(np.arange(held), np.arange(held)) + held - 1
-    index.flags.writeable = False
-    return index

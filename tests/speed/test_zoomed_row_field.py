@@ -19,11 +19,11 @@ from benchcheck.api import load_layout
 from benchcheck.evaluate.factory import make_evaluator
 from benchcheck.plugin_manager import make_plugin_manager
 from benchcheck.tolerance.study import run_study
-from benchcheck.wave.field import Field, values_made
+from benchcheck.wave.field import Field, _lag_sums, values_made
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.sampling import edge_energy
 from benchcheck.wave.sums import inner_product
-from benchcheck.wave.zoomed_rows import ZoomedRowField, _lag_sums
+from benchcheck.wave.zoomed_rows import ZoomedRowField
 from benchcheck_plugins.modal_overlap import normalised_overlap
 from tests.speed.conftest import LAYOUT
 
