@@ -276,17 +276,12 @@ class RowTransformField(HeldColumnsField):
 
     @cached_property
     def values(self) -> np.ndarray:  # noqa: D102 - the window, transformed now
-        import scipy.fft
-
         from benchcheck.thread_pools import fft_workers
+        from benchcheck.wave.axis_transforms import scaled_dft
 
         window = np.zeros(self.grid.shape, self.lines.dtype)
         window[:, self.first:self.first + self.lines.shape[1]] = self.lines
-        workers = fft_workers(window.nbytes)
-        if self.sign > 0:
-            window = scipy.fft.fft(window, axis=1, overwrite_x=True, workers=workers)
-        else:
-            window = scipy.fft.ifft(window, axis=1, norm="forward", overwrite_x=True, workers=workers)
+        window = scaled_dft(window, 1, self.alpha, self.grid.nx, True, fft_workers())  # the FFT path's own call
         window *= self.factor[np.newaxis, :]
         return window
 
