@@ -59,7 +59,7 @@ from benchcheck.wave.axis_transforms import (
     stage_method,
 )
 from benchcheck.wave.direct_dft import DIRECT_MAX_INPUT
-from benchcheck.wave.field import BoxedField, Field, RowTransformField, support_values
+from benchcheck.wave.field import BoxedField, Field, RowTransformField, one_modulus_power, support_values
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.pixel_cells import (
     PixelCells,
@@ -330,8 +330,8 @@ def _lines_gram(field: Field, axes, dtype):
 
 
 def _box_gram(field: Field, x_axis, y_axis, dtype) -> np.ndarray:
-    _, factor_out, _, _, _ = fourier_parts(y_axis, field.wavelength)
-    factor_power = float(np.mean(np.abs(factor_out.astype(dtype).astype(np.complex128)) ** 2))
+    """``_lines_gram``'s matrix, made when first read."""
+    factor_power = one_modulus_power(fourier_parts(y_axis, field.wavelength)[1].astype(dtype))
     box = support_values(field).astype(np.complex128)
     box *= fourier_parts(x_axis, field.wavelength)[0][field.support[1]].astype(dtype)[np.newaxis, :]
     gram = (y_axis.n_out * factor_power) * (box.T @ box.conj())
