@@ -231,7 +231,8 @@ def _row_transform_spectrum(field: RowTransformField, wavenumber_slope: float):
     Σ H[q, j] M[j, j'] conj(H[q, j']) with M = gᵀ ḡ (the held columns' Gram matrix in double
     precision, ``RowTransformField.gram``: far columns carry 1e-7 of the power, which
     single-precision sums of the form would blur) and H[q, j] = Ĉ[q + s (f + j)], a Hankel
-    matrix (a strided view of Ĉ): a product with M, never the N x N spectrum."""
+    matrix (N x held, copied from a strided view of Ĉ): a product with M, never the N x N
+    spectrum."""
     grid = field.grid
     n, held = grid.nx, field.lines.shape[1]
     chirp = field.factor.astype(np.complex128)
