@@ -12,7 +12,7 @@ import numpy as np
 from benchcheck.wave.grid import Grid
 
 __all__ = ["Field", "DeferredField", "BoxedField", "HeldColumnsField", "RowTransformField", "values_made",
-           "support_values"]
+           "support_values", "lag_sums"]
 
 # |output factor| may vary by this much (relative) across a row transform: a chirp times a
 # constant varies by float32 rounding alone
@@ -100,17 +100,6 @@ def held_columns_gram(lines: np.ndarray) -> np.ndarray:
     """Σ over rows of lines[r, j] conj(lines[r, j']), in double precision."""
     lines = lines.astype(np.complex128)
     return lines.T @ lines.conj()
-
-
-def rows_gram(gram: np.ndarray, lines: np.ndarray, rows: slice) -> np.ndarray:
-    """The held columns' Gram matrix over ``rows`` (a step-1 slice) from the whole one
-    (``gram``): less that of the rows outside them, few where the rows are a window's middle."""
-    start, stop, _ = rows.indices(lines.shape[0])
-    inside = gram.copy()
-    for outside in (lines[:start], lines[stop:]):
-        if outside.size:
-            inside -= held_columns_gram(outside)
-    return inside
 
 
 def one_modulus_power(factor: np.ndarray) -> float:
@@ -241,13 +230,33 @@ class HeldColumnsField(Field):
         """The same transform of other held columns."""
         raise NotImplementedError
 
-    def _sum_over_columns(self, gram: np.ndarray, *columns: tuple[int, int]) -> float:
-        """Σ over the rows of ``gram`` and the output columns [start, stop) of |values|², for rows
-        that are factor[m] Σ_j g_j exp(−2πi α (first + j) m) (``alpha``): summed over m,
+    @cached_property
+    def gram_diagonals(self) -> np.ndarray:
+        """``gram`` summed along its diagonals (``diagonal_sums``): all the sums over output
+        columns read of it."""
+        return diagonal_sums(self.gram)
+
+    def border_power(self, rows: int, columns: int) -> float:
+        """Σ|values|² over the window's border band (no sample area): its first and last
+        ``rows`` rows, and the first and last ``columns`` columns of the rows between.
+
+        From the Gram matrix of the outer rows and the whole one less it (the middle rows'),
+        each summed along its diagonals and weighted by the lag sums over the columns
+        (``_sum_over_columns``)."""
+        ny, nx = self.grid.shape
+        outer = diagonal_sums(held_columns_gram(np.concatenate((self.lines[:rows], self.lines[ny - rows:]))))
+        middle = self.gram_diagonals - outer
+        return (self._sum_over_columns(outer, (0, nx))
+                + self._sum_over_columns(middle, (0, columns), (nx - columns, nx)))
+
+    def _sum_over_columns(self, diagonals: np.ndarray, *columns: tuple[int, int]) -> float:
+        """Σ over some rows and the output columns [start, stop) of |values|², for rows that
+        are factor[m] Σ_j g_j exp(−2πi α (first + j) m) (``alpha``), from those rows' Gram
+        matrix summed along its diagonals (``diagonals``): summed over m,
         |Σ_j g_j exp(−2πi α (first + j) m)|² is Σ_{j,j'} g_j conj(g_j') S(j − j'),
-        S(d) = Σ_m exp(−2πi α d m)."""
-        sums = sum(_lag_sums(self.alpha, self.lines.shape[1], start, stop) for start, stop in columns)
-        return self.factor_power * float(np.vdot(sums[_lag_index(self.lines.shape[1])].conj(), gram).real)
+        S(d) = Σ_m exp(−2πi α d m), so the sum is Σ_d S(d) Σ_{j − j' = d} G[j, j']."""
+        sums = sum(lag_sums(self.alpha, self.lines.shape[1], start, stop) for start, stop in columns)
+        return self.factor_power * float(np.dot(sums, diagonals).real)
 
 
 class RowTransformField(HeldColumnsField):
@@ -309,40 +318,43 @@ class RowTransformField(HeldColumnsField):
         kernel = _roots_of_unity(n, self.sign, self.lines.dtype.name)[np.multiply.outer(held, indices) % n]
         return (self.lines[rows] @ kernel) * self.factor[indices]
 
-    def side_columns_power(self, width: int, rows: slice) -> float:
-        """Σ|values|² over ``rows`` (a step-1 slice) and the ``width`` columns at each side of
-        the window (no sample area). Summed over those columns m, |Σ_j lines[r, j] w^(s (first
-        + j) m)|² is Σ_{j,j'} lines[r, j] conj(lines[r, j']) K(j − j'), K(d) = Σ_m w^(s d m)
-        a Dirichlet sum (w = exp(−2πi/N)): with the Gram matrix the stage gives (``gram``,
-        from the iris box), the rows' part of it is the whole less the rows outside, a few
-        products of the held columns' width; else the strips' columns are made (``columns``)."""
-        if self.gram_from is None:
-            strips = self.columns(np.r_[0:width, self.grid.nx - width:self.grid.nx], rows)
-            return float(np.vdot(strips, strips).real)
-        return self._sum_over_columns(rows_gram(self.gram, self.lines, rows), (0, width),
-                                      (self.grid.nx - width, self.grid.nx))
-
     @cached_property
     def power(self) -> float:  # noqa: D102 - from the lines alone
         return self.rows_power() * self.grid.sample_area
 
 
-def _lag_sums(alpha: float, held: int, start: int, stop: int) -> np.ndarray:
+def diagonal_sums(gram: np.ndarray) -> np.ndarray:
+    """Σ_{j − j' = d} gram[j, j'] for d = −(held − 1) .. held − 1, in that order."""
+    index = _lag_index(gram.shape[0]).ravel()
+    size = 2 * gram.shape[0] - 1
+    return (np.bincount(index, weights=gram.real.ravel(), minlength=size)
+            + 1j * np.bincount(index, weights=gram.imag.ravel(), minlength=size))
+
+
+def lag_sums(alpha: float, held: int, start: int, stop: int) -> np.ndarray:
     """S(d) = Σ_{m=start}^{stop−1} exp(−2πi α d m) for d = −(held − 1) .. held − 1: the
     geometric series, exp(−iθ (start + stop − 1)) sin(θ n) / sin θ with θ = π α d and n the
-    count, term by term where sin θ nearly vanishes."""
-    lags = np.arange(-(held - 1), held)
-    theta = np.pi * alpha * lags
+    count; S(0) = n; term by term at other lags where sin θ nearly vanishes."""
+    theta = (np.pi * alpha) * _lags(held)
     count = stop - start
     denominator = np.sin(theta)
+    with np.errstate(divide="ignore", invalid="ignore"):  # lag 0 is set below
+        sums = np.exp((-1j * (start + stop - 1)) * theta) * (np.sin(count * theta) / denominator)
+    sums[held - 1] = count
     near = np.abs(denominator) < _NEAR_PERIOD
-    sums = np.empty(lags.size, np.complex128)
-    far = ~near
-    sums[far] = (np.exp(-1j * theta[far] * (start + stop - 1)) * np.sin(theta[far] * count) / denominator[far])
+    near[held - 1] = False
     if near.any():
-        columns = np.arange(start, stop)
-        sums[near] = np.exp(-2j * np.pi * alpha * np.multiply.outer(lags[near], columns)).sum(axis=1)
+        lags = _lags(held)[near]
+        sums[near] = np.exp(-2j * np.pi * alpha * np.multiply.outer(lags, np.arange(start, stop))).sum(axis=1)
     return sums
+
+
+@functools.lru_cache(maxsize=8)
+def _lags(held: int) -> np.ndarray:
+    """−(held − 1) .. held − 1 (read-only)."""
+    lags = np.arange(-(held - 1), held)
+    lags.flags.writeable = False
+    return lags
 
 
 @functools.lru_cache(maxsize=8)

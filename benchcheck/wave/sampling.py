@@ -108,9 +108,7 @@ def edge_energy(field: Field, border_fraction: float = 0.05) -> float:
     if 2 * by >= ny or 2 * bx >= nx:
         return 1.0
     if isinstance(field, HeldColumnsField):  # from the held columns alone
-        band = field.rows_power(slice(0, by)) + field.rows_power(slice(ny - by, ny))
-        band += field.side_columns_power(bx, slice(by, ny - by))
-        return min(1.0, max(0.0, band / total))
+        return min(1.0, max(0.0, field.border_power(by, bx) / total))
     if isinstance(field, BoxedField):  # zero outside its box: the band's part of the box
         (rows, columns), values = field.support, field.box
 

@@ -42,6 +42,7 @@ import functools
 from dataclasses import dataclass
 
 import numpy as np
+import scipy.linalg
 import scipy.linalg.blas
 
 from benchcheck.errors import SamplingError
@@ -59,7 +60,7 @@ from benchcheck.wave.axis_transforms import (
     stage_method,
 )
 from benchcheck.wave.direct_dft import DIRECT_MAX_INPUT
-from benchcheck.wave.field import BoxedField, Field, RowTransformField, one_modulus_power, support_values
+from benchcheck.wave.field import BoxedField, Field, RowTransformField, lag_sums, one_modulus_power, support_values
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.pixel_cells import (
     PixelCells,
@@ -318,23 +319,34 @@ def _row_transform(field: Field, axes, dtype, workers: int, notes: list, grid: G
 
 def _lines_gram(field: Field, axes, dtype):
     """A function giving Σ over rows of lines[r, j] conj(lines[r, j']) for ``_pruned_lines``'
-    lines from the box alone, where y is a plain DFT over the whole period (FFT path, as many
-    samples out as in): its columns are orthogonal, each of squared norm N |output factor|²,
-    so the sum over the N rows is N |c|² Σ_k b[k, j] conj(b[k, j']) over the box's rows b
-    (times the x input factor; the y input factor has modulus 1). A product over the box's
-    rows instead of the window's (43 against 512 or 1024 on the 4f example); else None."""
+    lines from the box alone (``_box_gram``): a product over the box's rows instead of the
+    window's (43 against 512 or 1024 on the 4f example)."""
     x_axis, y_axis = axes
-    if _on_box_only(y_axis, field.wavelength) or y_axis.n_out != y_axis.n_in:
-        return None
     return functools.partial(_box_gram, field, x_axis, y_axis, dtype)
 
 
 def _box_gram(field: Field, x_axis, y_axis, dtype) -> np.ndarray:
-    """``_lines_gram``'s matrix, made when first read."""
-    factor_power = one_modulus_power(fourier_parts(y_axis, field.wavelength)[1].astype(dtype))
+    """``_lines_gram``'s matrix, made when first read.
+
+    Along y the lines are c[m] Σ_k b[k, j] exp(−2πi α (first + k) m) over the box's rows b
+    (times the x input factor and the y input factor), c the output factor of one modulus, so
+    the sum over the M output rows is |c|² Σ_{k,k'} b[k, j] S(k − k') conj(b[k', j']) with
+    S(d) = Σ_m exp(−2πi α d m), a geometric series (``lag_sums``). A plain DFT over the whole
+    period (FFT path, as many samples out as in) has S(d) = N δ_d: its columns are
+    orthogonal, and the y input factor (modulus 1) drops out."""
+    rows, columns = field.support
+    factor_in_y, factor_out_y, alpha, fft_path, _ = fourier_parts(y_axis, field.wavelength)
+    factor_power = one_modulus_power(factor_out_y.astype(dtype))
     box = support_values(field).astype(np.complex128)
-    box *= fourier_parts(x_axis, field.wavelength)[0][field.support[1]].astype(dtype)[np.newaxis, :]
-    gram = (y_axis.n_out * factor_power) * (box.T @ box.conj())
+    box *= fourier_parts(x_axis, field.wavelength)[0][columns].astype(dtype)[np.newaxis, :]
+    if fft_path and y_axis.n_out == y_axis.n_in:
+        gram = (y_axis.n_out * factor_power) * (box.T @ box.conj())
+    else:
+        box *= factor_in_y[rows].astype(dtype)[:, np.newaxis]
+        sums = lag_sums(alpha, box.shape[0], 0, y_axis.n_out)
+        middle = box.shape[0] - 1
+        between_rows = scipy.linalg.toeplitz(sums[middle:], sums[middle::-1])  # [k, k'] = S(k − k')
+        gram = factor_power * (box.T @ (between_rows @ box.conj()))
     gram.flags.writeable = False
     return gram
 

@@ -17,7 +17,7 @@ from functools import cached_property
 import numpy as np
 
 from benchcheck.wave.direct_dft import dft_matrix, direct_dft
-from benchcheck.wave.field import (HeldColumnsField, held_columns_gram, one_modulus_power, rows_gram,
+from benchcheck.wave.field import (HeldColumnsField, diagonal_sums, held_columns_gram, one_modulus_power,
                                    set_field_attributes)
 from benchcheck.wave.grid import Grid
 
@@ -51,14 +51,8 @@ class ZoomedRowField(HeldColumnsField):
 
     def rows_power(self, rows: slice = slice(None)) -> float:
         """Σ|values|² over ``rows`` (no sample area), without the window."""
-        gram = self.gram if rows == slice(None) else held_columns_gram(self.lines[rows])
-        return self._sum_over_columns(gram, (0, self.grid.nx))
-
-    def side_columns_power(self, width: int, rows: slice) -> float:
-        """Σ|values|² over ``rows`` (a step-1 slice) and the ``width`` columns at each side of
-        the window (no sample area), without the window."""
-        return self._sum_over_columns(rows_gram(self.gram, self.lines, rows), (0, width),
-                                      (self.grid.nx - width, self.grid.nx))
+        diagonals = self.gram_diagonals if rows == slice(None) else diagonal_sums(held_columns_gram(self.lines[rows]))
+        return self._sum_over_columns(diagonals, (0, self.grid.nx))
 
     @cached_property
     def power(self) -> float:  # noqa: D102 - from the lines alone

@@ -147,18 +147,20 @@ def test_the_gram_matrix_a_stage_gives_from_the_box_is_that_of_the_held_columns(
     scale = np.abs(direct).max()
     assert np.allclose(camera.gram, direct, rtol=0, atol=1e-6 * scale)
     assert np.allclose(camera.scaled(0.8).gram, 0.64 * direct, rtol=0, atol=1e-6 * scale)
-    # The window check's side strips (middle rows) by this Gram matrix and a Dirichlet sum,
-    # against the strips of the window made in full. The strips hold 6e-7 to 1e-5 of the
-    # power; the window's float32 transform leaves every sample a rounding error of about
-    # 6e-8 of the field's rms, which on such faint strips is up to ~1e-4 of their power.
-    window = camera.values
+    # The window check's border band (4 rows at top and bottom, side strips of the rows
+    # between) by this Gram matrix and Dirichlet sums, against the band of the window made in
+    # full. The band holds 6e-7 to 1e-5 of the power; the window's float32 transform leaves
+    # every sample a rounding error of about 6e-8 of the field's rms, which on so faint a
+    # band is up to ~1e-4 of its power.
+    window = camera.values.astype(np.complex128)
     ny, nx = window.shape
     total = camera.power / camera.grid.sample_area
     for width in (4, 40):
-        strips = window[4:ny - 4][:, np.r_[0:width, nx - width:nx]].astype(np.complex128)
-        made = np.vdot(strips, strips).real
+        strips = window[4:ny - 4][:, np.r_[0:width, nx - width:nx]]
+        made = np.vdot(strips, strips).real + np.vdot(window[:4], window[:4]).real \
+            + np.vdot(window[ny - 4:], window[ny - 4:]).real
         assert made > 1e-7 * total  # light to measure
-        assert camera.side_columns_power(width, slice(4, ny - 4)) == pytest.approx(made, rel=1e-4)
+        assert camera.border_power(4, width) == pytest.approx(made, rel=1e-4)
 
 
 def test_a_scaled_row_transform_field_is_its_window_scaled():

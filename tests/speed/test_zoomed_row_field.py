@@ -19,7 +19,7 @@ from benchcheck.api import load_layout
 from benchcheck.evaluate.factory import make_evaluator
 from benchcheck.plugin_manager import make_plugin_manager
 from benchcheck.tolerance.study import run_study
-from benchcheck.wave.field import Field, _lag_sums, values_made
+from benchcheck.wave.field import Field, lag_sums, values_made
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.sampling import edge_energy
 from benchcheck.wave.sums import inner_product
@@ -66,13 +66,14 @@ def test_the_values_are_the_zoomed_dft_of_the_held_columns():
     # complex64 product against the sum in double: float32 rounding, 1e-5 of the peak. The
     # power from the Gram matrix and the geometric sums over columns is a double-precision
     # sum of the same products as Σ|E|² of the reference (the factor's one modulus holds to
-    # float32 rounding, 6e-8): 1e-6 relative; so are a band of rows and the side strips.
+    # float32 rounding, 6e-8): 1e-6 relative; so are a band of rows and the window's border band.
     field = _field()
     reference = _reference(field)
     assert field.power == pytest.approx(np.sum(np.abs(reference) ** 2) * field.grid.sample_area, rel=1e-6)
     assert field.rows_power(slice(20, 40)) == pytest.approx(np.sum(np.abs(reference[20:40]) ** 2), rel=1e-6)
-    strips = reference[3:N - 3][:, np.r_[0:5, N - 5:N]]
-    assert field.side_columns_power(5, slice(3, N - 3)) == pytest.approx(np.sum(np.abs(strips) ** 2), rel=1e-6)
+    border = np.sum(np.abs(reference[3:N - 3][:, np.r_[0:5, N - 5:N]]) ** 2) \
+        + np.sum(np.abs(reference[:3]) ** 2) + np.sum(np.abs(reference[N - 3:]) ** 2)
+    assert field.border_power(3, 5) == pytest.approx(border, rel=1e-6)
     assert not values_made(field)
     window = Field(field.values, field.grid, field.wavelength, "cam")
     assert np.allclose(field.values, reference, rtol=0, atol=1e-5 * np.abs(reference).max())
@@ -88,7 +89,7 @@ def test_the_sums_over_columns_are_the_geometric_series(alpha):
     # Σ_m exp(−2πi α d m) in closed form against the terms added up, also where α d comes
     # close to an integer (the quotient's denominator vanishes: added term by term there).
     # Double-precision sums of at most 64 unit terms: 1e-12.
-    sums = _lag_sums(alpha, 9, 5, 47)
+    sums = lag_sums(alpha, 9, 5, 47)
     lags = np.arange(-8, 9)
     direct = np.exp(-2j * np.pi * alpha * np.multiply.outer(lags, np.arange(5, 47))).sum(axis=1)
     assert np.allclose(sums, direct, rtol=0, atol=1e-12)
@@ -117,6 +118,22 @@ def test_a_study_trial_landing_on_the_target_grid_keeps_its_columns_and_its_puri
         assert trial.metrics["cam.mode_purity"] == pytest.approx(expected, rel=1e-6)
     fresh = make_evaluator(load_layout(path), study=True).evaluate(excursions[-1], wave=True)
     assert fresh.metrics["cam.mode_purity"] == trial.metrics["cam.mode_purity"]
+
+
+def test_the_gram_matrix_a_stage_gives_from_the_box_is_that_of_the_held_columns(tmp_path):
+    # Landing on the nominal grid with the second lens's focal length off, y too is a zoomed
+    # DFT (off the FFT path): the sum of its output rows is the box's rows weighted by the
+    # geometric series S(k − k'), a Toeplitz matrix, not the FFT's orthogonal columns. Against
+    # Σ_r g[r, j] conj(g[r, j']) over the complex64 columns themselves: float32 rounding of
+    # the transform, 1e-6 of the largest entry.
+    path = tmp_path / "relay.toml"
+    path.write_text(_relay_with_purity())
+    study = make_evaluator(load_layout(path), study=True)
+    camera = study.evaluate({"relay.lens2.focal_length": 2e-3}, wave=True).simulation.planes["cam"].field
+    assert isinstance(camera, ZoomedRowField) and camera.gram_from is not None
+    lines = camera.lines.astype(np.complex128)
+    direct = lines.T @ lines.conj()
+    assert np.allclose(camera.gram, direct, rtol=0, atol=1e-6 * np.abs(direct).max())
 
 
 def test_only_a_target_marked_as_reused_is_factored():
