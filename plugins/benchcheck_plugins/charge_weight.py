@@ -40,14 +40,14 @@ from functools import cached_property
 import numpy as np
 import scipy.fft
 import scipy.special
-from numpy.lib.stride_tricks import sliding_window_view
+from numpy.lib.stride_tricks import as_strided
 
 from benchcheck.metrics import MetricUnavailable
 from benchcheck.thread_pools import fft_workers
 from benchcheck.wave.field import Field, RowTransformField
 from benchcheck.wave.grid import Grid
 
-from benchcheck_plugins.spectral_band import power_by_column, reach_index
+from benchcheck_plugins.spectral_band import power_by_column, power_by_row, reach_index
 
 __all__ = ["FieldBand", "field_band", "band_centroid", "charge_weight"]
 
@@ -92,17 +92,22 @@ class FieldBand:
 
     @cached_property
     def autocorrelation(self) -> np.ndarray:
-        """A[q] = Σ_k box[k + q] conj(box[k]) at every lag q = (rows, columns) in natural FFT
-        order: Wiener–Khinchin, the inverse transform of |transform|² of the box zero-padded
-        to at least 2n − 1 a side (no lag wraps round), rounded up to a class shared between
-        trials (``_LAG_CLASS``). The centroid reads its axes, the disc's power all of it."""
+        """A[q] = Σ_k box[k + q] conj(box[k]) at the lags q = (rows in natural FFT order,
+        columns 0 .. L/2), half of them: the others are A(−q) = conj A(q). Wiener–Khinchin:
+        the inverse transform of |transform|² of the box zero-padded to L ≥ 2n − 1 a side (no
+        lag wraps round), rounded up to a class shared between trials (``_LAG_CLASS``); that
+        power is real, so its inverse transform is conj(rfft2) / L², half the transform. The
+        centroid reads the axes, the disc's power all of it."""
         shape = tuple(scipy.fft.next_fast_len(-(-(2 * size - 1) // _LAG_CLASS) * _LAG_CLASS)
                       for size in self.box.shape)
         workers = fft_workers(self.box.itemsize * shape[0] * shape[1])  # by the padded size
-        # zero-padded along x on the box's rows only, then along y
-        padded = scipy.fft.fft(scipy.fft.fft(self.box, n=shape[1], axis=1, workers=workers), n=shape[0], axis=0,
+        # zero-padded along y on the box's columns only, then along x over contiguous rows
+        padded = scipy.fft.fft(scipy.fft.fft(self.box, n=shape[0], axis=0, workers=workers), n=shape[1], axis=1,
                                overwrite_x=True, workers=workers)
-        return scipy.fft.ifft2(padded.real**2 + padded.imag**2, workers=workers)
+        half = scipy.fft.rfft2(padded.real**2 + padded.imag**2, workers=workers)
+        np.conjugate(half, out=half)
+        half /= shape[0] * shape[1]
+        return half
 
 
 def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldBand | None:
@@ -156,7 +161,7 @@ def _band_in_box(columns_of, reach_x: int, margin: float, wavenumber_slope_y: fl
     if wavenumber_slope_y:
         kept *= np.exp(-1j * wavenumber_slope_y * grid.y).astype(kept.dtype)[:, np.newaxis]
     spectrum = scipy.fft.fft(kept, axis=0, overwrite_x=True, workers=fft_workers(kept.nbytes))
-    reach_y = math.ceil(margin * reach_index(power_by_column(spectrum.T), grid.ny))
+    reach_y = math.ceil(margin * reach_index(power_by_row(spectrum), grid.ny))
     if 2 * reach_y + 1 > grid.ny:
         return None
     box = spectrum[np.arange(-reach_y, reach_y + 1) % grid.ny].astype(np.complex128) / (grid.nx * grid.ny)
@@ -241,7 +246,8 @@ def _row_transform_spectrum(field: RowTransformField, wavenumber_slope: float):
     spectrum = scipy.fft.fft(chirp, workers=1)
     # hankel[q, j] = Ĉ[q + f + j] for s = +1; for s = −1 the same view reversed along j
     offset = (field.first if field.sign > 0 else -(field.first + held - 1)) % n
-    hankel = sliding_window_view(np.concatenate((spectrum, spectrum))[offset:offset + n + held - 1], held)  # cyclic
+    doubled = np.concatenate((spectrum, spectrum))[offset:]  # cyclic
+    hankel = as_strided(doubled, shape=(n, held), strides=(doubled.strides[0],) * 2, writeable=False)
     if field.sign < 0:
         hankel = hankel[:, ::-1]
     # a copy: BLAS cannot read the view's overlapping rows, and numpy's own loop for it took
@@ -271,10 +277,9 @@ def band_centroid(band: FieldBand) -> tuple[float, float]:
     centroid = []
     for correlation, (n, pitch, first, size) in ((lags[0, :], (grid.nx, grid.pitch[0], grid.x[0], band.fx.size)),
                                                  (lags[:, 0], (grid.ny, grid.pitch[1], grid.y[0], band.fy.size))):
-        lag = scipy.fft.fftfreq(correlation.size, 1.0 / correlation.size)  # R[q] sits at q mod length
-        near = (np.abs(lag) <= size - 1) & (lag != 0)
-        w = np.exp(2j * math.pi * lag[near] / n)
-        moment = np.sum(correlation[near] / (w - 1.0)).real
+        # R[−q] / (w_−q − 1) is the conjugate of R[q] / (w_q − 1): twice the real part over q > 0
+        lag = np.arange(1, size)
+        moment = 2 * np.sum(correlation[1:size] / (np.exp(2j * math.pi * lag / n) - 1.0)).real
         centroid.append(first + pitch * (n - 1) / 2 + pitch * moment / correlation[0].real)
     return float(centroid[0]), float(centroid[1])
 
@@ -388,12 +393,13 @@ def _common_step(steps: tuple[float, float]) -> float | None:
 
 @functools.lru_cache(maxsize=64)
 def _lag_lattice(shape: tuple[int, int]):
-    """(lag rows, lag columns as floats, the half-plane of lags counted twice, i² + j²) for an
-    autocorrelation of ``shape`` in natural FFT order (read-only, shared between trials)."""
+    """(lag rows, lag columns as floats, the half-plane of lags counted twice, i² + j²) for
+    ``FieldBand.autocorrelation``'s half of the lags, of ``shape``: rows in natural FFT order,
+    columns from 0 (read-only, shared between trials)."""
     iy = scipy.fft.fftfreq(shape[0], 1.0 / shape[0])[:, np.newaxis]
-    ix = scipy.fft.fftfreq(shape[1], 1.0 / shape[1])[np.newaxis, :]
+    ix = np.arange(shape[1], dtype=np.float64)[np.newaxis, :]
     # A(−q) = conj A(q) and D is even: one half-plane of lags, counted twice
-    half = (iy > 0) | ((iy == 0) & (ix > 0))
+    half = (ix > 0) | ((ix == 0) & (iy > 0))
     keys = (iy * iy + ix * ix).astype(np.int64)
     for array in (iy, ix, half, keys):
         array.flags.writeable = False
@@ -404,7 +410,8 @@ def _lag_lattice(shape: tuple[int, int]):
 def _lags_by_key(shape: tuple[int, int]):
     """(flat indices of the half-plane lags in order of i² + j², those i² + j², the index of
     each among the distinct values, the distinct values) for an autocorrelation of ``shape``
-    on a square lattice; the lags out to a radius are a prefix (read-only, shared). Within
+    on a square lattice (``_lag_lattice``'s half-plane); the lags out to a radius are a
+    prefix (read-only, shared). Within
     one i² + j² the lags keep their flat order, so the sums over them are those of a
     bincount over the whole array."""
     _, _, half, keys = _lag_lattice(shape)
@@ -431,9 +438,9 @@ def _disc_power(band: FieldBand, frequency_step: tuple[float, float], reach: flo
     lags = band.autocorrelation
     shape = lags.shape
     grid = band.grid
-    shift = np.multiply.outer(
-        np.exp(2j * math.pi * frequency_step[1] * (axis[1] - grid.y[0]) * scipy.fft.fftfreq(shape[0], 1.0 / shape[0])),
-        np.exp(2j * math.pi * frequency_step[0] * (axis[0] - grid.x[0]) * scipy.fft.fftfreq(shape[1], 1.0 / shape[1])))
+    iy, ix, half, _ = _lag_lattice(shape)
+    shift = np.multiply.outer(np.exp(2j * math.pi * frequency_step[1] * (axis[1] - grid.y[0]) * iy[:, 0]),
+                              np.exp(2j * math.pi * frequency_step[0] * (axis[0] - grid.x[0]) * ix[0]))
     step = _common_step(frequency_step)
     if step is not None:
         order, sorted_keys, by_key, distinct = _lags_by_key(shape)
@@ -442,7 +449,6 @@ def _disc_power(band: FieldBand, frequency_step: tuple[float, float], reach: flo
         near_lags = np.bincount(by_key[:count], weights=(lags.ravel()[near] * shift.ravel()[near]).real)
         q = step * np.sqrt(distinct[:near_lags.size])
     else:
-        iy, ix, half, _ = _lag_lattice(shape)
         q_all = np.hypot(ix * frequency_step[0], iy * frequency_step[1])
         near = (q_all <= 2 * reach * (1 + 1e-12)) & half
         q, near_lags = q_all[near], (lags[near] * shift[near]).real
