@@ -305,3 +305,30 @@ def test_explicit_output_grid_agrees_with_the_natural_one(matrix):
     iy = [int(np.argmin(np.abs(natural.grid.y - y))) for y in chosen.y]
     reference = natural.values[np.ix_(iy, ix)]
     assert np.max(np.abs(result.field.values - reference)) < 1e-6 * np.max(np.abs(reference))
+
+
+@pytest.mark.parametrize("focal_length", [0.2, -0.2])
+def test_the_modulator_rows_go_through_the_x_transform_a_block_at_a_time(monkeypatch, focal_length):
+    # exp(iψ) − 1 times the x profile, transformed along x and cut to the iris box's columns a
+    # block of rows at a time (blocks of 8 rows here, 37 rows: the last block short), against
+    # scipy.fft on the whole product (fft for B > 0, ifft with norm="forward" for B < 0: the
+    # FFT path's DFT). Both are float32 transforms of the same rows: 1e-6 of the largest value.
+    import scipy.fft
+
+    import benchcheck.wave.stages as stages
+    from benchcheck.wave.axis_transforms import fourier_parts, plan_axes
+
+    monkeypatch.setattr(stages, "_BLOCK_BYTES", 8 * 64 * 8)
+    rng = np.random.default_rng(5)
+    values = np.exp(1j * rng.uniform(0, 2 * np.pi, (37, 64))).astype(np.complex64) - 1
+    row = np.exp(-np.linspace(-2, 2, 64) ** 2).astype(np.complex64)
+    fourier = np.array([[0.0, focal_length, 0.0], [-1.0 / focal_length, 0.0, 0.0], [0.0, 0.0, 1.0]])
+    x_axis = plan_axes(Grid((37, 64), (8e-6, 8e-6)), (fourier, fourier), WAVELENGTH, None)[0]
+    _, _, alpha, fft_path, _ = fourier_parts(x_axis, WAVELENGTH)
+    assert fft_path and x_axis.n_out == x_axis.n_in
+    columns = slice(20, 31)
+    blocked = stages._row_product_transform(values, row, x_axis, alpha, fft_path, 1, columns)
+    product = values * row[np.newaxis, :]
+    whole = scipy.fft.fft(product, axis=1) if alpha > 0 else scipy.fft.ifft(product, axis=1, norm="forward")
+    assert blocked.shape == (37, 11)
+    assert np.allclose(blocked, whole[:, columns], rtol=0, atol=1e-6 * np.abs(whole).max())
