@@ -246,8 +246,15 @@ class HeldColumnsField(Field):
         ny, nx = self.grid.shape
         outer = diagonal_sums(held_columns_gram(np.concatenate((self.lines[:rows], self.lines[ny - rows:]))))
         middle = self.gram_diagonals - outer
-        return (self._sum_over_columns(outer, (0, nx))
-                + self._sum_over_columns(middle, (0, columns), (nx - columns, nx)))
+        return self._all_columns_power(outer) + self._sum_over_columns(middle, *self._side_columns(columns))
+
+    def _all_columns_power(self, diagonals: np.ndarray) -> float:
+        """``_sum_over_columns`` over the whole row."""
+        return self._sum_over_columns(diagonals, (0, self.grid.nx))
+
+    def _side_columns(self, width: int) -> tuple[tuple[int, int], ...]:
+        """The ``width`` columns at each side of the window, as ranges of m."""
+        return (0, width), (self.grid.nx - width, self.grid.nx)
 
     def _sum_over_columns(self, diagonals: np.ndarray, *columns: tuple[int, int]) -> float:
         """Σ over some rows and the output columns [start, stop) of |values|², for rows that
@@ -302,6 +309,15 @@ class RowTransformField(HeldColumnsField):
     def with_lines(self, lines: np.ndarray, gram: Callable[[], np.ndarray] | None) -> "RowTransformField":
         return RowTransformField(lines, self.first, self.sign, self.factor, self.grid, self.wavelength, self.plane,
                                  gram)
+
+    def _all_columns_power(self, diagonals: np.ndarray) -> float:
+        """Parseval along each row: N |factor|² times the trace of the rows' Gram matrix."""
+        return self.grid.nx * self.factor_power * float(diagonals[self.lines.shape[1] - 1].real)
+
+    def _side_columns(self, width: int) -> tuple[tuple[int, int], ...]:
+        """The last ``width`` columns are those just before the first (the DFT's period):
+        one range, m from −width to width."""
+        return ((-width, width),)
 
     def rows_power(self, rows: slice = slice(None)) -> float:
         """Σ|values|² over ``rows`` (no sample area), by Parseval along each row."""

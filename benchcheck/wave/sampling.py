@@ -117,6 +117,8 @@ def edge_energy(field: Field, border_fraction: float = 0.05) -> float:
 
         top, bottom = inside(by, rows.start, values.shape[0]), inside(ny - by, rows.start, values.shape[0])
         left, right = inside(bx, columns.start, values.shape[1]), inside(nx - bx, columns.start, values.shape[1])
+        if (top, bottom, left, right) == (0, values.shape[0], 0, values.shape[1]):
+            return 0.0  # the box lies inside the band's inner edge (an iris well inside the window)
     else:
         values = field.values
         top, bottom, left, right = by, ny - by, bx, nx - bx

@@ -52,7 +52,7 @@ class ZoomedRowField(HeldColumnsField):
     def rows_power(self, rows: slice = slice(None)) -> float:
         """Σ|values|² over ``rows`` (no sample area), without the window."""
         diagonals = self.gram_diagonals if rows == slice(None) else diagonal_sums(held_columns_gram(self.lines[rows]))
-        return self._sum_over_columns(diagonals, (0, self.grid.nx))
+        return self._all_columns_power(diagonals)
 
     @cached_property
     def power(self) -> float:  # noqa: D102 - from the lines alone
