@@ -38,7 +38,9 @@ stage (nominal runs, targets, threshold searches that move only downstream eleme
 
 from __future__ import annotations
 
+import concurrent.futures
 import functools
+import os
 from dataclasses import dataclass
 
 import numpy as np
@@ -46,6 +48,7 @@ import scipy.linalg
 import scipy.linalg.blas
 
 from benchcheck.errors import SamplingError
+from benchcheck.thread_pools import threads_for
 from benchcheck.wave.axis_transforms import (
     choose_branch,
     along_axis,
@@ -78,10 +81,13 @@ __all__ = ["StageResult", "propagate", "natural_output_grid", "choose_branch"]
 # bytes where only the iris box's columns go on (``_row_product_transform``): the window's
 # product is never written, and a trial's smaller arrays stay in a core's cache (2 MiB of L2
 # here; a pass over 4 MiB before OAM purity made it 1.1 → 1.6 ms at 512). One FFT thread a
-# block. Paired, 4f example: 0.15-0.25 ms less a trial at 512 on all cores (example's specs;
-# 0.1 with efficiency alone), 0.3-0.45 ms less at 1024 on one thread (a study's worker);
-# 0.2 ms more at 1024 on all cores with efficiency alone (the window's FFT had two threads).
+# block; on a window whose halves are each more than a small transform (thread_pools), a
+# helper thread takes half the blocks. Paired, 4f example, against the window's product and
+# one transform of it: 0.15-0.25 ms less a trial at 512 on all cores (example's specs; 0.1
+# with efficiency alone), 0.3-0.45 ms less at 1024 on one thread (a study's worker), 0.6 ms
+# less at 1024 on all cores with efficiency alone and 1 ms with the example's specs.
 _BLOCK_BYTES = 1 << 18
+
 
 @dataclass(frozen=True)
 class StageResult:
@@ -460,12 +466,39 @@ def _row_product_transform(values: np.ndarray, row: np.ndarray, ax, alpha: float
         return _along(scaled_dft(values * row[np.newaxis, :], 1, alpha, ax.n_out, fft_path, workers), 1, {1: columns})
     rows, n = values.shape
     kept = np.empty((rows, len(range(n)[columns])), np.result_type(values, row))
-    buffer = np.empty((min(rows, max(1, _BLOCK_BYTES // (n * kept.itemsize))), n), kept.dtype)
-    for start in range(0, rows, buffer.shape[0]):
-        block = buffer[:min(buffer.shape[0], rows - start)]
-        np.multiply(values[start:start + block.shape[0]], row, out=block)
-        kept[start:start + block.shape[0]] = scaled_dft(block, 1, alpha, n, True, workers)[:, columns]
+    block_rows = min(rows, max(1, _BLOCK_BYTES // (n * kept.itemsize)))
+
+    def run(first: int, stop: int) -> None:
+        buffer = np.empty((block_rows, n), kept.dtype)
+        for start in range(first, stop, block_rows):
+            block = buffer[:min(block_rows, stop - start)]
+            np.multiply(values[start:start + block.shape[0]], row, out=block)
+            kept[start:start + block.shape[0]] = scaled_dft(block, 1, alpha, n, True, 1)[:, columns]
+
+    # two threads where each half of the window is more than a small transform (thread_pools)
+    if _thread_count(threads_for(kept.itemsize * rows * n // 2, workers)) > 1 and rows >= 4 * block_rows:
+        half = (rows // block_rows // 2) * block_rows
+        other = _helper_pool().submit(run, half, rows)
+        run(0, half)
+        other.result()
+    else:
+        run(0, rows)
     return kept
+
+
+def _thread_count(workers: int) -> int:
+    """Threads meant by a ``workers`` argument (−1: all cores)."""
+    return (os.cpu_count() or 1) if workers < 0 else workers
+
+
+_POOL: list = []  # [(process id, executor)]
+
+
+def _helper_pool():
+    """One helper thread for the second half of a stage's rows (made anew in a forked child)."""
+    if not _POOL or _POOL[0][0] != os.getpid():
+        _POOL[:] = [(os.getpid(), concurrent.futures.ThreadPoolExecutor(1, thread_name_prefix="benchcheck-rows"))]
+    return _POOL[0][1]
 
 
 def _along(values: np.ndarray, axis: int, keep: dict) -> np.ndarray:

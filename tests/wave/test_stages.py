@@ -307,10 +307,12 @@ def test_explicit_output_grid_agrees_with_the_natural_one(matrix):
     assert np.max(np.abs(result.field.values - reference)) < 1e-6 * np.max(np.abs(reference))
 
 
+@pytest.mark.parametrize("workers", [1, 2])
 @pytest.mark.parametrize("focal_length", [0.2, -0.2])
-def test_the_modulator_rows_go_through_the_x_transform_a_block_at_a_time(monkeypatch, focal_length):
+def test_the_modulator_rows_go_through_the_x_transform_a_block_at_a_time(monkeypatch, focal_length, workers):
     # exp(iψ) − 1 times the x profile, transformed along x and cut to the iris box's columns a
-    # block of rows at a time (blocks of 8 rows here, 37 rows: the last block short), against
+    # block of rows at a time (blocks of 8 rows here, 37 rows: the last block short; with two
+    # threads each takes half the blocks, as on a window too large for one), against
     # scipy.fft on the whole product (fft for B > 0, ifft with norm="forward" for B < 0: the
     # FFT path's DFT). Both are float32 transforms of the same rows: 1e-6 of the largest value.
     import scipy.fft
@@ -319,6 +321,7 @@ def test_the_modulator_rows_go_through_the_x_transform_a_block_at_a_time(monkeyp
     from benchcheck.wave.axis_transforms import fourier_parts, plan_axes
 
     monkeypatch.setattr(stages, "_BLOCK_BYTES", 8 * 64 * 8)
+    monkeypatch.setattr(stages, "threads_for", lambda nbytes, workers: workers)  # this small window too
     rng = np.random.default_rng(5)
     values = np.exp(1j * rng.uniform(0, 2 * np.pi, (37, 64))).astype(np.complex64) - 1
     row = np.exp(-np.linspace(-2, 2, 64) ** 2).astype(np.complex64)
@@ -327,7 +330,7 @@ def test_the_modulator_rows_go_through_the_x_transform_a_block_at_a_time(monkeyp
     _, _, alpha, fft_path, _ = fourier_parts(x_axis, WAVELENGTH)
     assert fft_path and x_axis.n_out == x_axis.n_in
     columns = slice(20, 31)
-    blocked = stages._row_product_transform(values, row, x_axis, alpha, fft_path, 1, columns)
+    blocked = stages._row_product_transform(values, row, x_axis, alpha, fft_path, workers, columns)
     product = values * row[np.newaxis, :]
     whole = scipy.fft.fft(product, axis=1) if alpha > 0 else scipy.fft.ifft(product, axis=1, norm="forward")
     assert blocked.shape == (37, 11)
