@@ -13,7 +13,10 @@ the parallelism is across trials) is scipy.fft's default for the block (``fft_th
 That default is per thread, so a call handed to a helper thread takes it along
 (``carrying_fft_threads``), and metrics pass ``workers=fft_workers(array.nbytes)`` to their
 transforms, which any scipy.fft backend honours. A transform of a small array runs on one
-thread whatever the count (``threads_for``): splitting it costs more than it saves.
+thread whatever the count (``threads_for``): splitting it costs more than it saves. The
+modulator stage's row blocks (``stages._row_product_transform``) run on one FFT thread each,
+with one helper thread of their own taking half of them where the count allows two and the
+window's halves are not small: still one thread per core.
 """
 
 from __future__ import annotations
