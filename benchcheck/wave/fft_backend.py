@@ -20,7 +20,7 @@ import scipy.fft
 from benchcheck.errors import BenchcheckError
 
 __all__ = ["FFT_BACKENDS", "ENVIRONMENT_VARIABLE", "use_fft_backend", "apply_fft_backend_from_environment",
-           "fft_backend_available"]
+           "fft_backend_available", "fft_backend_in_use"]
 
 FFT_BACKENDS = ("scipy", "pyfftw")
 ENVIRONMENT_VARIABLE = "BENCHCHECK_FFT_BACKEND"
@@ -67,6 +67,11 @@ def fft_backend_available(name: str) -> bool:
             return False
         return True
     return False
+
+
+def fft_backend_in_use() -> str:
+    """The backend set by :func:`use_fft_backend` ("scipy" unless asked otherwise)."""
+    return _current
 
 
 def use_fft_backend(name: str) -> str:
