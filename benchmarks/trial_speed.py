@@ -353,8 +353,10 @@ def _print_study(folder: Path, grid: int, trials: int) -> None:
           f"(mean of {core_before:.2f} before the studies and {core_after:.2f} after)")
     print(f"  1 worker (this process, FFTs on all cores)      : {one:8.2f} trials/s ({one_overall:.2f} with start-up)")
     print(f"  2 workers (processes, one FFT thread each)      : {two:8.2f} trials/s ({two_overall:.2f} with start-up)")
+    # the in-process study is not one core: its transforms (and at 1024 the modulator's row
+    # blocks) take both, so the gain from the second core is measured against the worker's loop
     print(f"  from the second core: 2 workers / one core {two / core:5.2f} (target >= 1.8); "
-          f"2 workers / 1 worker {two / one:5.2f}")
+          f"2 workers / 1 worker on all cores {two / one:5.2f}")
     projected = 10_000 / two
     print(f"  projected 10,000 trials with 2 workers: {projected / 60:6.1f} min "
           f"({1e3 / two:.0f} ms per trial; target under 10 min)")
