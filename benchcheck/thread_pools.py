@@ -15,13 +15,15 @@ That default is per thread, so a call handed to a helper thread takes it along
 transforms, which any scipy.fft backend honours. A transform of a small array runs on one
 thread whatever the count (``threads_for``): splitting it costs more than it saves. The
 modulator stage's row blocks (``stages._row_product_transform``) run on one FFT thread each,
-with one helper thread of their own taking half of them where the count allows two and the
-window's halves are not small: still one thread per core.
+with one helper thread (``helper_thread``) taking half of them where the count allows two and
+the window's halves are not small: still one thread per core.
 """
 
 from __future__ import annotations
 
+import concurrent.futures
 import functools
+import os
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager, nullcontext
 from typing import Any
@@ -30,7 +32,7 @@ import scipy.fft
 from threadpoolctl import ThreadpoolController
 
 __all__ = ["SMALL_TRANSFORM_BYTES", "blas_on_one_thread", "fft_threads", "fft_workers", "threads_for",
-           "carrying_fft_threads"]
+           "thread_count", "helper_thread", "carrying_fft_threads"]
 
 #: A transform of an array of at most this many bytes runs on one thread. Measured on the
 #: 2-core machine (scipy 1.17, one axis, median of 7 x 30): 512 x 43 complex64 took 45 µs on
@@ -68,6 +70,21 @@ def fft_workers(nbytes: int | None = None) -> int:
 def threads_for(nbytes: int, workers: int) -> int:
     """``workers``, or 1 for a transform of an array of at most ``SMALL_TRANSFORM_BYTES``."""
     return 1 if nbytes <= SMALL_TRANSFORM_BYTES else workers
+
+
+def thread_count(workers: int) -> int:
+    """Threads meant by a ``workers`` argument (−1: all cores)."""
+    return (os.cpu_count() or 1) if workers < 0 else workers
+
+
+_HELPER: list = []  # [(process id, executor)]
+
+
+def helper_thread() -> concurrent.futures.Executor:
+    """One helper thread for splitting a step's work in two (made anew in a forked child)."""
+    if not _HELPER or _HELPER[0][0] != os.getpid():
+        _HELPER[:] = [(os.getpid(), concurrent.futures.ThreadPoolExecutor(1, thread_name_prefix="benchcheck-helper"))]
+    return _HELPER[0][1]
 
 
 def carrying_fft_threads(call: Callable[[], Any]) -> Callable[[], Any]:

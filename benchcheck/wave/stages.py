@@ -38,9 +38,7 @@ stage (nominal runs, targets, threshold searches that move only downstream eleme
 
 from __future__ import annotations
 
-import concurrent.futures
 import functools
-import os
 from dataclasses import dataclass
 
 import numpy as np
@@ -48,7 +46,7 @@ import scipy.linalg
 import scipy.linalg.blas
 
 from benchcheck.errors import SamplingError
-from benchcheck.thread_pools import threads_for
+from benchcheck.thread_pools import helper_thread, thread_count, threads_for
 from benchcheck.wave.axis_transforms import (
     choose_branch,
     along_axis,
@@ -479,29 +477,14 @@ def _row_product_transform(values: np.ndarray, row: np.ndarray, ax, alpha: float
             kept[start:start + block.shape[0]] = scaled_dft(block, 1, alpha, n, True, 1)[:, columns]
 
     # two threads where each half of the window is more than a small transform (thread_pools)
-    if _thread_count(threads_for(kept.itemsize * rows * n // 2, workers)) > 1 and rows >= 4 * block_rows:
+    if thread_count(threads_for(kept.itemsize * rows * n // 2, workers)) > 1 and rows >= 4 * block_rows:
         half = (rows // block_rows // 2) * block_rows
-        other = _helper_pool().submit(run, half, rows)
+        other = helper_thread().submit(run, half, rows)
         run(0, half)
         other.result()
     else:
         run(0, rows)
     return kept
-
-
-def _thread_count(workers: int) -> int:
-    """Threads meant by a ``workers`` argument (−1: all cores)."""
-    return (os.cpu_count() or 1) if workers < 0 else workers
-
-
-_POOL: list = []  # [(process id, executor)]
-
-
-def _helper_pool():
-    """One helper thread for the second half of a stage's rows (made anew in a forked child)."""
-    if not _POOL or _POOL[0][0] != os.getpid():
-        _POOL[:] = [(os.getpid(), concurrent.futures.ThreadPoolExecutor(1, thread_name_prefix="benchcheck-rows"))]
-    return _POOL[0][1]
 
 
 def _along(values: np.ndarray, axis: int, keep: dict) -> np.ndarray:
