@@ -193,14 +193,6 @@ def support_values(field: Field, box: tuple[slice, slice] | None = None) -> np.n
     return field.values[box]
 
 
-@functools.lru_cache(maxsize=8)
-def _roots_of_unity(n: int, sign: int, dtype_name: str) -> np.ndarray:
-    """exp(−2πi · sign · k / n) for k < n, in double precision then the field's (read-only)."""
-    roots = np.exp((-2j * np.pi * sign / n) * np.arange(n)).astype(dtype_name)
-    roots.flags.writeable = False
-    return roots
-
-
 class HeldColumnsField(Field):
     """A field whose every row is a transform along x of a few columns it holds (``lines``,
     rows x columns, with ``gram_from``: a function giving their Gram matrix, or None); the
@@ -324,15 +316,6 @@ class RowTransformField(HeldColumnsField):
         from benchcheck.wave.sums import power_sum
 
         return self.grid.nx * self.factor_power * power_sum(self.lines[rows])
-
-    def columns(self, indices: np.ndarray, rows: slice = slice(None)) -> np.ndarray:
-        """``values[rows][:, indices]``, without the window: one matrix product with the DFT's
-        columns (phases from exact integer products modulo N), in the field's precision."""
-        n = self.grid.nx
-        indices = np.asarray(indices, np.int64) % n
-        held = np.arange(self.first, self.first + self.lines.shape[1], dtype=np.int64)
-        kernel = _roots_of_unity(n, self.sign, self.lines.dtype.name)[np.multiply.outer(held, indices) % n]
-        return (self.lines[rows] @ kernel) * self.factor[indices]
 
     @cached_property
     def power(self) -> float:  # noqa: D102 - from the lines alone
