@@ -24,6 +24,7 @@ from __future__ import annotations
 import concurrent.futures
 import functools
 import os
+import threading
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager, nullcontext
 from typing import Any
@@ -47,11 +48,27 @@ def _controller() -> ThreadpoolController:
     return ThreadpoolController()  # looks up the loaded libraries once (about a millisecond)
 
 
+_BLAS_LIMITS = [0]  # blocks of blas_on_one_thread open in this process
+_BLAS_LOCK = threading.Lock()
+
+
 @contextmanager
 def blas_on_one_thread() -> Iterator[None]:
-    """BLAS on one thread inside the block (about 25 µs to enter and leave)."""
-    with _controller().limit(limits=1, user_api="blas"):
-        yield
+    """BLAS on one thread inside the block (about 25 µs to enter and leave; nothing inside a
+    block already open, such as a trial's simulation inside the trial: the limit is the
+    process's, and the outermost block restores it)."""
+    with _BLAS_LOCK:
+        outermost = _BLAS_LIMITS[0] == 0
+        _BLAS_LIMITS[0] += 1
+    try:
+        if outermost:
+            with _controller().limit(limits=1, user_api="blas"):
+                yield
+        else:
+            yield
+    finally:
+        with _BLAS_LOCK:
+            _BLAS_LIMITS[0] -= 1
 
 
 def fft_threads(workers: int | None):

@@ -30,6 +30,15 @@ def test_blas_is_on_one_thread_inside_and_as_before_after():
     assert _blas_threads() == before
 
 
+def test_a_nested_block_keeps_blas_on_one_thread_until_the_outermost_ends():
+    before = _blas_threads()
+    with blas_on_one_thread():
+        with blas_on_one_thread():
+            assert set(_blas_threads()) == {1}
+        assert set(_blas_threads()) == {1}  # the inner block restored nothing
+    assert _blas_threads() == before
+
+
 def test_a_trial_runs_its_simulation_with_blas_on_one_thread(tmp_path, monkeypatch):
     path = tmp_path / "relay.toml"
     path.write_text(scaled_relay_text(128))
