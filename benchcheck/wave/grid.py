@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
@@ -55,15 +56,16 @@ class Grid:
     def ny(self) -> int:
         return self.shape[0]
 
-    @property
+    @cached_property
     def x(self) -> np.ndarray:
-        """Sample positions along x (m), 1-D."""
-        return self.center[0] + (np.arange(self.nx) - self.nx // 2) * self.pitch[0]
+        """Sample positions along x (m), 1-D (read-only: made once per grid, read by every
+        stage and metric of a trial)."""
+        return _positions(self.center[0], self.nx, self.pitch[0])
 
-    @property
+    @cached_property
     def y(self) -> np.ndarray:
-        """Sample positions along y (m), 1-D."""
-        return self.center[1] + (np.arange(self.ny) - self.ny // 2) * self.pitch[1]
+        """Sample positions along y (m), 1-D (read-only)."""
+        return _positions(self.center[1], self.ny, self.pitch[1])
 
     @property
     def extent(self) -> tuple[float, float]:
@@ -81,3 +83,9 @@ class Grid:
 
     def with_center(self, center: tuple[float, float]) -> "Grid":
         return Grid(self.shape, self.pitch, center)
+
+
+def _positions(center: float, n: int, pitch: float) -> np.ndarray:
+    positions = center + (np.arange(n) - n // 2) * pitch
+    positions.flags.writeable = False
+    return positions
