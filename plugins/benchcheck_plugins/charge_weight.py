@@ -106,7 +106,7 @@ class FieldBand:
                                overwrite_x=True, workers=workers)
         half = scipy.fft.rfft2(padded.real**2 + padded.imag**2, workers=workers)
         np.conjugate(half, out=half)
-        half /= shape[0] * shape[1]
+        half *= 1.0 / (shape[0] * shape[1])  # a real factor: numpy divides complex by complex
         return half
 
 
@@ -164,7 +164,8 @@ def _band_in_box(columns_of, reach_x: int, margin: float, wavenumber_slope_y: fl
     reach_y = math.ceil(margin * reach_index(power_by_row(spectrum), grid.ny))
     if 2 * reach_y + 1 > grid.ny:
         return None
-    box = spectrum[np.arange(-reach_y, reach_y + 1) % grid.ny].astype(np.complex128) / (grid.nx * grid.ny)
+    box = spectrum[np.arange(-reach_y, reach_y + 1) % grid.ny].astype(np.complex128)
+    box *= 1.0 / (grid.nx * grid.ny)
     width, height = grid.nx * grid.pitch[0], grid.ny * grid.pitch[1]
     fx, fy = np.arange(-reach_x, reach_x + 1) / width, np.arange(-reach_y, reach_y + 1) / height
     power = box.real**2 + box.imag**2
@@ -356,7 +357,7 @@ def _charge_power_on_lattice(coefficients: np.ndarray, keys: np.ndarray, step: f
         workers = fft_workers(laid_out.nbytes)
         convolved = scipy.fft.ifft(scipy.fft.fft(laid_out, axis=1, overwrite_x=True, workers=workers) * kernel,
                                    axis=1, overwrite_x=True, workers=workers)
-        return convolved[:, keys + span].T / (2 * math.pi * step) ** 2
+        return convolved[:, keys + span].T * (1.0 / (2 * math.pi * step) ** 2)
 
     return _lommel_form(coefficients, rho, order, outer, cauchy_sums)
 
