@@ -409,8 +409,9 @@ def _lag_lattice(shape: tuple[int, int]):
 
 @functools.lru_cache(maxsize=16)
 def _lags_by_key(shape: tuple[int, int]):
-    """(flat indices of the half-plane lags in order of i² + j², those i² + j², the index of
-    each among the distinct values, the distinct values) for an autocorrelation of ``shape``
+    """(flat indices of the half-plane lags in order of i² + j², their rows and columns,
+    those i² + j², the index of each among the distinct values, the distinct values) for an
+    autocorrelation of ``shape``
     on a square lattice (``_lag_lattice``'s half-plane); the lags out to a radius are a
     prefix (read-only, shared). Within one i² + j² the lags keep their flat order, so the
     sums over them are those of a bincount over the whole array."""
@@ -421,9 +422,10 @@ def _lags_by_key(shape: tuple[int, int]):
     starts = np.concatenate([[True], sorted_keys[1:] != sorted_keys[:-1]])
     by_key = np.cumsum(starts) - 1
     distinct = sorted_keys[starts]
-    for array in (order, sorted_keys, by_key, distinct):
+    rows, columns = np.divmod(order, shape[1])
+    for array in (order, rows, columns, sorted_keys, by_key, distinct):
         array.flags.writeable = False
-    return order, sorted_keys, by_key, distinct
+    return order, rows, columns, sorted_keys, by_key, distinct
 
 
 def _disc_power(band: FieldBand, frequency_step: tuple[float, float], reach: float, outer: float,
@@ -439,19 +441,19 @@ def _disc_power(band: FieldBand, frequency_step: tuple[float, float], reach: flo
     shape = lags.shape
     grid = band.grid
     iy, ix, half, _ = _lag_lattice(shape)
-    shift = np.multiply.outer(np.exp(2j * math.pi * frequency_step[1] * (axis[1] - grid.y[0]) * iy[:, 0]),
-                              np.exp(2j * math.pi * frequency_step[0] * (axis[0] - grid.x[0]) * ix[0]))
+    shift_y = np.exp(2j * math.pi * frequency_step[1] * (axis[1] - grid.y[0]) * iy[:, 0])
+    shift_x = np.exp(2j * math.pi * frequency_step[0] * (axis[0] - grid.x[0]) * ix[0])
     step = _common_step(frequency_step)
-    if step is not None:
-        order, sorted_keys, by_key, distinct = _lags_by_key(shape)
+    if step is not None:  # the phase at the near lags only (about half of them)
+        order, rows, columns, sorted_keys, by_key, distinct = _lags_by_key(shape)
         count = int(np.searchsorted(sorted_keys, (2 * reach / step) ** 2 * (1 + 1e-12), side="right"))
-        near = order[:count]
-        near_lags = np.bincount(by_key[:count], weights=(lags.ravel()[near] * shift.ravel()[near]).real)
+        shift = shift_y[rows[:count]] * shift_x[columns[:count]]
+        near_lags = np.bincount(by_key[:count], weights=(lags.ravel()[order[:count]] * shift).real)
         q = step * np.sqrt(distinct[:near_lags.size])
     else:
         q_all = np.hypot(ix * frequency_step[0], iy * frequency_step[1])
         near = (q_all <= 2 * reach * (1 + 1e-12)) & half
-        q, near_lags = q_all[near], (lags[near] * shift[near]).real
+        q, near_lags = q_all[near], (lags[near] * np.multiply.outer(shift_y, shift_x)[near]).real
     disc = outer * scipy.special.j1(2 * math.pi * q * outer) / q  # D(q); D(0) = πR²
     return float(lags[0, 0].real * math.pi * outer**2 + 2 * (near_lags @ disc))
 
