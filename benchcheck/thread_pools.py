@@ -48,27 +48,28 @@ def _controller() -> ThreadpoolController:
     return ThreadpoolController()  # looks up the loaded libraries once (about a millisecond)
 
 
-_BLAS_LIMITS = [0]  # blocks of blas_on_one_thread open in this process
+_BLAS_LIMIT: list = [0, None]  # [blocks of blas_on_one_thread open in this process, their limiter]
 _BLAS_LOCK = threading.Lock()
 
 
 @contextmanager
 def blas_on_one_thread() -> Iterator[None]:
-    """BLAS on one thread inside the block (about 25 µs to enter and leave; nothing inside a
-    block already open, such as a trial's simulation inside the trial: the limit is the
-    process's, and the outermost block restores it)."""
+    """BLAS on one thread inside the block (about 25 µs to set and restore). The limit is the
+    process's: the first block to open sets it and the last to close restores it, so a block
+    inside another (a trial's simulation inside the trial) costs nothing, and trials on
+    several threads of one process (a dask worker's) keep it until all are done."""
     with _BLAS_LOCK:
-        outermost = _BLAS_LIMITS[0] == 0
-        _BLAS_LIMITS[0] += 1
+        if _BLAS_LIMIT[0] == 0:
+            _BLAS_LIMIT[1] = _controller().limit(limits=1, user_api="blas")
+        _BLAS_LIMIT[0] += 1
     try:
-        if outermost:
-            with _controller().limit(limits=1, user_api="blas"):
-                yield
-        else:
-            yield
+        yield
     finally:
         with _BLAS_LOCK:
-            _BLAS_LIMITS[0] -= 1
+            _BLAS_LIMIT[0] -= 1
+            if _BLAS_LIMIT[0] == 0:
+                _BLAS_LIMIT[1].restore_original_limits()
+                _BLAS_LIMIT[1] = None
 
 
 def fft_threads(workers: int | None):

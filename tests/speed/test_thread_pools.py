@@ -9,7 +9,7 @@ import threading
 import numpy as np
 import pytest
 import scipy.fft
-from threadpoolctl import threadpool_info
+from threadpoolctl import threadpool_info, threadpool_limits
 
 from benchcheck.api import load_layout
 from benchcheck.evaluate import simulate as simulate_module
@@ -37,6 +37,34 @@ def test_a_nested_block_keeps_blas_on_one_thread_until_the_outermost_ends():
             assert set(_blas_threads()) == {1}
         assert set(_blas_threads()) == {1}  # the inner block restored nothing
     assert _blas_threads() == before
+
+
+def test_blocks_on_two_threads_keep_blas_on_one_thread_until_the_last_closes():
+    # Trials on two threads of one process (a dask worker's): the first to finish must not
+    # hand BLAS its threads back while the other still runs (the oversubscription trap,
+    # DEVELOPERS.md "One thread pool at a time").
+    before = _blas_threads()
+    opened, first_closed = threading.Event(), threading.Event()
+
+    def other_trial():
+        with blas_on_one_thread():
+            opened.set()
+            first_closed.wait(timeout=10)
+
+    other = threading.Thread(target=other_trial)
+    first = blas_on_one_thread()
+    first.__enter__()
+    other.start()
+    try:
+        assert opened.wait(timeout=10)
+        first.__exit__(None, None, None)
+        assert set(_blas_threads()) == {1}  # the other trial is still running
+    finally:
+        first_closed.set()
+        other.join(timeout=10)
+        # the last block closed on the other thread, and OpenBLAS 0.3.30 ignored a raised
+        # count set from there: put back what the other tests expect
+        threadpool_limits(limits=max(before), user_api="blas")
 
 
 def test_a_trial_runs_its_simulation_with_blas_on_one_thread(tmp_path, monkeypatch):
