@@ -411,9 +411,8 @@ def _lag_lattice(shape: tuple[int, int]):
 def _lags_by_key(shape: tuple[int, int]):
     """(flat indices of the half-plane lags in order of i² + j², their rows and columns,
     those i² + j², the index of each among the distinct values, the distinct values) for an
-    autocorrelation of ``shape``
-    on a square lattice (``_lag_lattice``'s half-plane); the lags out to a radius are a
-    prefix (read-only, shared). Within one i² + j² the lags keep their flat order, so the
+    autocorrelation of ``shape`` on a square lattice (``_lag_lattice``'s half-plane); the
+    lags out to a radius are a prefix (read-only, shared). Within one i² + j² the lags keep their flat order, so the
     sums over them are those of a bincount over the whole array."""
     _, _, half, keys = _lag_lattice(shape)
     flat = np.flatnonzero(half)
@@ -444,7 +443,7 @@ def _disc_power(band: FieldBand, frequency_step: tuple[float, float], reach: flo
     shift_y = np.exp(2j * math.pi * frequency_step[1] * (axis[1] - grid.y[0]) * iy[:, 0])
     shift_x = np.exp(2j * math.pi * frequency_step[0] * (axis[0] - grid.x[0]) * ix[0])
     step = _common_step(frequency_step)
-    if step is not None:  # the phase at the near lags only (about half of them)
+    if step is not None:  # the phase at the near lags only
         order, rows, columns, sorted_keys, by_key, distinct = _lags_by_key(shape)
         count = int(np.searchsorted(sorted_keys, (2 * reach / step) ** 2 * (1 + 1e-12), side="right"))
         shift = shift_y[rows[:count]] * shift_x[columns[:count]]
