@@ -30,6 +30,7 @@ def test_trial_speed_prints_its_ratios():
     assert "from the second core" in output and "projected 10,000 trials" in output
     assert "the 2-worker study" in output and "a worker's trial (one FFT thread)" in output
     assert "example spec" in output and "mode purity" in output and "step-by-step reference" in output
+    assert "targets in this run:" in output and "from the second core >= 1.8:" in output
 
 
 @pytest.mark.slow
