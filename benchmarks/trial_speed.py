@@ -31,7 +31,7 @@ Every number is measured side by side in one run and printed as a ratio:
   through every gap, each lens a phase mask exp(−iπ r²/(λf)) (thin lens, DESIGN.md §4), the
   iris as a mask, on one grid fine and wide enough for every step; mode purity of both at
   the camera and the time of each;
-* last, each target of the issue met or missed in this run, the missed per-trial lines
+* last, each speed and scale target met or missed in this run, the missed per-trial lines
   named (the per-trial target is read on the median ratio of each line at 512 and above).
 """
 
