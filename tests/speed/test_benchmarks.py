@@ -34,6 +34,13 @@ def test_trial_speed_prints_its_ratios():
 
 
 @pytest.mark.slow
+def test_worker_memory_prints_each_grid():
+    output = _run("worker_memory.py", "--grids", "128", "--trials", "4")
+    assert "peak memory of a study worker" in output and "grid   128" in output
+    assert "fields above the worker as set up" in output and "held between trials" in output
+
+
+@pytest.mark.slow
 def test_tolerance_speed_prints_its_ratios():
     output = _run("tolerance_speed.py", "--trials", "64")
     assert "ratio 2 workers / 1" in output and "vectorised" in output
