@@ -47,13 +47,16 @@ from benchcheck.thread_pools import fft_workers
 from benchcheck.wave.field import Field, RowTransformField
 from benchcheck.wave.grid import Grid
 
-from benchcheck_plugins.spectral_band import power_by_column, power_by_row, reach_index
+from benchcheck_plugins.spectral_band import power_by_column, power_by_row, reach_index, reach_within
 
 __all__ = ["FieldBand", "field_band", "band_centroid", "charge_weight"]
 
 # Frequencies (kept band) beyond which the closed form costs more than the rings: the
 # Lommel matrix grows as the square of the distinct radii among them.
 _MAX_FREQUENCIES = 8192
+# Columns either side of zero frequency whose powers are formed first when the x cut is
+# found from a field's held lines: the 4f example's cuts lie at 19-35 (256 to 1024 samples).
+_NEAR_COLUMNS = 64
 # How much farther than each axis's own cut the box reaches, so that the disc fits in it:
 # 1.25 first (a Gaussian spectrum's disc needs 1.07); where stray light keeps even the box's
 # corners above _DISC_DROP (0.7 % of the 4f example's trials at 1024, whose first order
@@ -127,7 +130,7 @@ def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldB
     grid = field.grid
     wavenumber = 2 * math.pi / field.wavelength
     if isinstance(field, RowTransformField):  # held as the few columns its rows transform
-        column_power, columns_of = _row_transform_spectrum(field, wavenumber * slopes[0])
+        total, cut_x, columns_of = _row_transform_spectrum(field, wavenumber * slopes[0])
     else:
         if slopes[0]:
             along_rows = field.values * np.exp(-1j * wavenumber * slopes[0] * grid.x).astype(field.values.dtype)
@@ -135,13 +138,12 @@ def field_band(field: Field, slopes: tuple[float, float] = (0.0, 0.0)) -> FieldB
         else:
             along_rows = scipy.fft.fft(field.values, axis=1, workers=fft_workers(field.values.nbytes))
         column_power = power_by_column(along_rows)
+        total, cut_x = float(column_power.sum()), reach_index(column_power, grid.nx)
 
         def columns_of(indices: np.ndarray) -> np.ndarray:
             return along_rows[:, indices]
-    total = float(column_power.sum())
     if not total > 0:
         raise MetricUnavailable("the field carries no power in the window")
-    cut_x = reach_index(column_power, grid.nx)
     for margin in _BOX_MARGINS:
         band = _band_in_box(columns_of, math.ceil(margin * cut_x), margin, wavenumber * slopes[1], total, grid)
         if band is not _BOX_TOO_SMALL:
@@ -227,8 +229,9 @@ def _square_turn_of(size: int, charge: int) -> np.ndarray:
 
 
 def _row_transform_spectrum(field: RowTransformField, wavenumber_slope: float):
-    """(Σ over rows of |A|² for every column, a function giving A's columns) for A, the
-    transform along x of the field times exp(−i k sx x), from the field's held lines g alone.
+    """(Σ over rows and columns of |A|², the x cut ``reach_index`` gives for A's column
+    powers, a function giving A's columns) for A, the transform along x of the field times
+    exp(−i k sx x), from the field's held lines g alone.
 
     Each row is c(m) Σ_j g[j] w^(s (f + j) m) with c = factor × the ramp, w = exp(−2πi/N), so
     its transform is A[q] = Σ_j g[j] Ĉ[q + s (f + j)] (indices modulo N), Ĉ = FFT(c): one
@@ -237,8 +240,10 @@ def _row_transform_spectrum(field: RowTransformField, wavenumber_slope: float):
     Σ H[q, j] M[j, j'] conj(H[q, j']) with M = gᵀ ḡ (the held columns' Gram matrix in double
     precision, ``RowTransformField.gram``: far columns carry 1e-7 of the power, which
     single-precision sums of the form would blur) and H[q, j] = Ĉ[q + s (f + j)], a Hankel
-    matrix (N x held, copied from a strided view of Ĉ): a product with M, never the N x N
-    spectrum."""
+    matrix (a strided view of Ĉ): a product with M, never the N x N spectrum. Their sum over
+    all columns is Σ M[j, j'] R[s (j' − j)] with R[d] = Σ_p Ĉ[p] conj(Ĉ[p + d]) = N Σ_m |c(m)|²
+    exp(2πi d m / N) (Wiener–Khinchin), so only the columns out to the cut are formed
+    (``_NEAR_COLUMNS`` first, twice as many while more than the dropped share lies beyond)."""
     grid = field.grid
     n, held = grid.nx, field.lines.shape[1]
     chirp = field.factor.astype(np.complex128)
@@ -251,17 +256,33 @@ def _row_transform_spectrum(field: RowTransformField, wavenumber_slope: float):
     hankel = as_strided(doubled, shape=(n, held), strides=(doubled.strides[0],) * 2, writeable=False)
     if field.sign < 0:
         hankel = hankel[:, ::-1]
-    # a copy: BLAS cannot read the view's overlapping rows, and numpy's own loop for it took
-    # up to 4 times as long as the copy and the BLAS product together (512 x 43; 1.25 times
-    # on the one BLAS thread of a trial)
-    hankel = np.ascontiguousarray(hankel)
-    # Re Σ_j (H M)[q, j] conj(H[q, j]): the real and imaginary parts side by side, one pass
-    column_power = np.einsum("qj,qj->q", (hankel @ field.gram).view(np.float64), hankel.view(np.float64))
+    gram = field.gram
+    # Σ_q H[q, j] conj(H[q, j']) = R[s (j' − j)]: R = N conj(FFT(|c|²)), |c|² real
+    correlation = n * np.conjugate(scipy.fft.fft(chirp.real**2 + chirp.imag**2, workers=1))
+    steps = np.arange(held)
+    total = float(np.sum(gram * correlation[(field.sign * (steps - steps[:, np.newaxis])) % n]).real)
+
+    def column_power(indices: np.ndarray) -> np.ndarray:
+        # the rows picked are a copy, which BLAS can read (not the view's overlapping rows);
+        # Re Σ_j (H M)[q, j] conj(H[q, j]): the real and imaginary parts side by side, one pass
+        rows = hankel[indices]
+        return np.einsum("qj,qj->q", (rows @ gram).view(np.float64), rows.view(np.float64))
+
+    reach = _NEAR_COLUMNS
+    while 2 * reach + 1 < n and total > 0:
+        near = column_power(np.r_[0:reach + 1, n - reach:n])  # q = 0..reach, then −reach..−1
+        by_reach = np.concatenate(([near[0]], near[1:reach + 1] + near[:reach:-1]))
+        cut = reach_within(by_reach, total)
+        if cut is not None:
+            break
+        reach *= 2
+    else:  # the whole row (or a dark field: reach_index gives 0)
+        cut = reach_index(column_power(np.arange(n)), n)
 
     def columns_of(indices: np.ndarray) -> np.ndarray:
         return field.lines @ hankel[indices].T.astype(field.lines.dtype)
 
-    return column_power, columns_of
+    return total, cut, columns_of
 
 
 def band_centroid(band: FieldBand) -> tuple[float, float]:

@@ -12,7 +12,7 @@ import functools
 import numpy as np
 import scipy.fft
 
-__all__ = ["DROPPED_SPECTRAL_POWER", "power_by_column", "power_by_row", "reach_index"]
+__all__ = ["DROPPED_SPECTRAL_POWER", "power_by_column", "power_by_row", "reach_index", "reach_within"]
 
 # Spectral power the band kept may leave out, about the accuracy of the ring interpolation
 # itself (2e-7 to 1.6e-6 against closed forms in the tests). Stray light spread over a camera
@@ -52,6 +52,18 @@ def reach_index(power: np.ndarray, n: int) -> int:
     by_reach = np.bincount(_reach_of_index(n), weights=power, minlength=n // 2 + 1)
     tail = np.cumsum(by_reach[::-1])[::-1] / total  # share at |index| >= k
     return int(np.flatnonzero(tail >= DROPPED_SPECTRAL_POWER / 2)[-1])
+
+
+def reach_within(by_reach: np.ndarray, total: float) -> int | None:
+    """``reach_index`` of a spectrum known out to |index| = K only: ``by_reach[k]`` is the power
+    at |index| = k (k = 0..K) and ``total`` (> 0) that of the whole spectrum, so the share at
+    |index| ≥ k is 1 − Σ_{k' < k} by_reach[k'] / total. None where at least half of
+    ``DROPPED_SPECTRAL_POWER`` lies beyond K (the reach is farther). The differences lose
+    about 1e-16 of the total, far below the 5e-7 compared."""
+    tail = (total - np.concatenate(([0.0], np.cumsum(by_reach)))) / total  # share at |index| >= k, k = 0..K+1
+    if tail[-1] >= DROPPED_SPECTRAL_POWER / 2:
+        return None
+    return int(np.flatnonzero(tail[:-1] >= DROPPED_SPECTRAL_POWER / 2)[-1])
 
 
 @functools.lru_cache(maxsize=16)

@@ -9,13 +9,16 @@ import pickle
 
 import numpy as np
 import pytest
+import scipy.fft
 
 from benchcheck.api import load_layout
 from benchcheck.evaluate.factory import make_evaluator
 from benchcheck.wave.field import Field, RowTransformField, values_made
 from benchcheck.wave.grid import Grid
 from benchcheck.wave.sampling import edge_energy
-from benchcheck_plugins.charge_weight import field_band
+from benchcheck_plugins import charge_weight
+from benchcheck_plugins.charge_weight import _row_transform_spectrum, field_band
+from benchcheck_plugins.spectral_band import power_by_column, reach_index
 from tests.speed.conftest import scaled_relay_text
 
 N = 64
@@ -113,6 +116,34 @@ def test_the_oam_band_from_the_held_columns_is_the_band_of_the_window(slopes, si
     peak = np.abs(from_window.box).max()
     assert np.allclose(from_lines.box, from_window.box, rtol=0, atol=1e-5 * peak)
     assert not values_made(fresh)
+
+
+@pytest.mark.parametrize("sign", [1, -1])
+@pytest.mark.parametrize("curvature", [5e-5, 4e-3, 1e-2])
+def test_the_x_cut_from_the_near_columns_is_that_of_the_window(curvature, sign, monkeypatch):
+    # The x transform's total power (the Wiener–Khinchin sum over the held columns' Gram
+    # matrix) and its cut (reach_index), found from the 64 columns either side of zero
+    # frequency and twice as many while too much lies beyond: against the column powers of
+    # the window's transform made in full (scipy.fft in double of the float32 window). The
+    # chirps put the cut at 16-18 (the first columns), 96-98 (one doubling) and 227-228 (the
+    # whole row). The totals differ by the window's float32 rounding (4e-8 seen, 1e-6
+    # allowed); the cut is the same.
+    n = 512
+    rows, columns = np.mgrid[0:n, 0:21]
+    lines = (np.exp(-((rows - 256.0) / 20.0) ** 2 - ((columns - 10.0) / 3.0) ** 2) * np.exp(1j * np.pi * columns))
+    m = np.arange(n) - n // 2
+    factor = 0.3 * np.exp(1j * (curvature * m**2 + 2 * np.pi * 3.3 * m / n))
+    field = RowTransformField(lines.astype(np.complex64), 0, sign, factor.astype(np.complex64),
+                              Grid.square(n, 10e-6), WAVELENGTH, "cam")
+    slope = 3e3  # rad/m: a tilt taken out, 2.4 frequency steps
+    if curvature < 1e-2:  # the near columns must give the cut: no column powers of the whole row
+        monkeypatch.setattr(charge_weight, "reach_index", None)
+    total, cut, _ = _row_transform_spectrum(field, slope)
+    monkeypatch.undo()
+    window = field.values.astype(np.complex128) * np.exp(-1j * slope * field.grid.x)
+    power = power_by_column(scipy.fft.fft(window, axis=1))
+    assert total == pytest.approx(power.sum(), rel=1e-6)
+    assert cut == reach_index(power, n)
 
 
 def test_a_study_trial_does_not_transform_the_camera_window(tmp_path):
