@@ -91,6 +91,8 @@ def main() -> None:
     parser.add_argument("--grids", type=int, nargs="+", default=[256, 512, 1024])
     parser.add_argument("--trials", type=int, default=100, help="drawn trials per worker")
     args = parser.parse_args()
+    if args.trials < 2 or min(args.grids) < 16:
+        parser.error("--trials must be 2 or more (a first and a second half) and each grid 16 or more")
     if resource is None:
         print("peak resident memory is not measured on this platform (no resource module)")
         return
