@@ -3,6 +3,7 @@ worker scaling and a projection to 10,000 trials (run by hand; nothing here is a
 
     python3 benchmarks/trial_speed.py [--grids [256 512 1024]] [--trials 64] [--study-grid 1024]
                                       [--study-trials 200] [--reference-grid 1024]
+                                      [--fixed-trials 64]
 
 Every number is measured side by side in one run and printed as a ratio:
 
@@ -19,6 +20,8 @@ Every number is measured side by side in one run and printed as a ratio:
   grid by a chirp-z transform. With pyFFTW installed, the same with its backend;
 * the same for the example's own specs (OAM purity about the beam, efficiency, pointing);
 * peak traced memory of one trial in field-sized arrays;
+* the share of a trial at 512 that does not grow with the grid: the same drawn trials at 128
+  (arrays a sixteenth as large) over at 512, field spec and the example's;
 * a study of the 4f example as shipped: the trial loop of one worker on one core (one FFT
   thread; before and after the studies, averaged), a study in this process (FFTs on all
   cores) and one with 2 worker processes (spawn), trials per second with and without
@@ -180,6 +183,30 @@ def _trial_times(path: Path, trials: int, fft_threads: int = -1) -> dict:
     return {**result, **best, **paired, "transforms": transforms, "recorded": len(recorded), "peak": peak}
 
 
+def _fixed_share(folder: Path, spec: str, trials: int, small: int = 128, large: int = 512) -> float:
+    """Median over drawn trials of the trial's time at ``small`` over the same trial at
+    ``large`` (timed one after the other): the share of a trial at ``large`` that does not
+    grow with the grid, since the arrays at ``small`` are (small / large)² as large."""
+    evaluators = []
+    for grid in (small, large):
+        layout = load_layout(_layout_copy(folder, grid, spec))
+        evaluator = make_evaluator(layout, study=True)
+        evaluator.simulate.workers = -1  # all cores, as the per-trial lines
+        evaluator.evaluate(wave=True)  # the nominal caches, as a study's first trial makes them
+        evaluators.append(evaluator)
+    perturbations = Sampler(tuple(resolve_dofs(layout)), "random", 11).perturbations(0, trials + 1)
+    ratios = []
+    for index, perturbation in enumerate(perturbations):
+        times = []
+        for evaluator in evaluators:
+            start = time.perf_counter()
+            evaluator.evaluate(perturbation)
+            times.append(time.perf_counter() - start)
+        if index:  # the first trial of each makes what the study's trials share
+            ratios.append(times[0] / times[1])
+    return float(np.median(ratios))
+
+
 def _one_core_rate(path: Path, trials: int) -> float:
     """Trials/s of a study's own trial runner on one core: in this process, one FFT thread,
     the study's draws (what each worker process of a study does)."""
@@ -307,6 +334,8 @@ def main() -> None:
     parser.add_argument("--study-grid", type=int, default=1024)
     parser.add_argument("--study-trials", type=int, default=200, help="0: no study")
     parser.add_argument("--reference-grid", type=int, default=1024, help="0: no step-by-step reference")
+    parser.add_argument("--fixed-trials", type=int, default=64,
+                        help="trials timed at 128 and 512 for the share that does not grow with the grid (0: none)")
     args = parser.parse_args()
     backends = ["scipy"] + (["pyfftw"] if fft_backend_available("pyfftw") else [])
     with tempfile.TemporaryDirectory() as folder:
@@ -339,6 +368,11 @@ def main() -> None:
                           f"{replay * 1e3:6.1f} ms, ratio {timed['ratio_replay']:5.2f}; "
                           f"peak {timed['peak'] / field_bytes:5.1f} field-sized arrays")
         use_fft_backend("scipy")
+        if args.fixed_trials > 0:
+            shares = {spec: _fixed_share(folder, spec, args.fixed_trials) for spec in ("field", "example")}
+            print("share of a trial at 512 that does not grow with the grid (the same drawn trials at 128,\n"
+                  "  where the arrays are a sixteenth as large, over at 512; median of each pair): "
+                  + ", ".join(f"{spec} spec {share:.2f}" for spec, share in shares.items()))
         study = _print_study(folder, args.study_grid, args.study_trials) if args.study_trials > 0 else None
         reference = _print_reference(folder, args.reference_grid) if args.reference_grid > 0 else None
         _print_targets(per_trial, study, reference)

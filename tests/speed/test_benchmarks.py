@@ -25,12 +25,13 @@ def _run(script: str, *arguments: str) -> str:
 @pytest.mark.slow
 def test_trial_speed_prints_its_ratios():
     output = _run("trial_speed.py", "--grids", "128", "--trials", "1", "--study-grid", "128",
-                  "--study-trials", "4", "--reference-grid", "128")
+                  "--study-trials", "4", "--reference-grid", "128", "--fixed-trials", "2")
     assert "ratio" in output and "fft2" in output
     assert "from the second core" in output and "projected 10,000 trials" in output
     assert "the 2-worker study" in output and "a worker's trial (one FFT thread)" in output
     assert "example spec" in output and "mode purity" in output and "step-by-step reference" in output
     assert "targets in this run:" in output and "from the second core >= 1.8:" in output
+    assert "does not grow with the grid" in output and "example spec" in output
 
 
 @pytest.mark.slow
