@@ -16,7 +16,8 @@ batches through ``run_batch_in_worker``, one FFT thread), twice:
   hologram on its grid, the target, transform tables).
 
 Each is printed in MiB and in field-sized arrays (one complex64 window of the grid), beside
-the estimate the memory cap uses for one simulation (``benchcheck.limits``).
+the estimate the memory cap uses for one simulation (``benchcheck.limits``). The workers
+inherit ``BENCHCHECK_FFT_BACKEND``: set it to ``pyfftw`` to measure that backend's workers.
 """
 
 from __future__ import annotations
