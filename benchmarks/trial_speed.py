@@ -185,8 +185,9 @@ def _trial_times(path: Path, trials: int, fft_threads: int = -1) -> dict:
 
 def _fixed_share(folder: Path, spec: str, trials: int, small: int = 128, large: int = 512) -> float:
     """Median over drawn trials of the trial's time at ``small`` over the same trial at
-    ``large`` (timed one after the other): the share of a trial at ``large`` that does not
-    grow with the grid, since the arrays at ``small`` are (small / large)² as large."""
+    ``large`` (timed one after the other): an upper bound on the share of a trial at
+    ``large`` that does not grow with the grid, since the arrays at ``small`` are
+    (small / large)² as large."""
     evaluators = []
     for grid in (small, large):
         layout = load_layout(_layout_copy(folder, grid, spec))
@@ -370,8 +371,8 @@ def main() -> None:
         use_fft_backend("scipy")
         if args.fixed_trials > 0:
             shares = {spec: _fixed_share(folder, spec, args.fixed_trials) for spec in ("field", "example")}
-            print("share of a trial at 512 that does not grow with the grid (the same drawn trials at 128,\n"
-                  "  where the arrays are a sixteenth as large, over at 512; median of each pair): "
+            print("share of a trial at 512 that does not grow with the grid, at most (the same drawn trials\n"
+                  "  at 128, where the arrays are a sixteenth as large, over at 512; median of each pair): "
                   + ", ".join(f"{spec} spec {share:.2f}" for spec, share in shares.items()))
         study = _print_study(folder, args.study_grid, args.study_trials) if args.study_trials > 0 else None
         reference = _print_reference(folder, args.reference_grid) if args.reference_grid > 0 else None
