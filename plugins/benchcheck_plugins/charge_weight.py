@@ -433,8 +433,8 @@ def _lags_by_key(shape: tuple[int, int]):
     """(flat indices of the half-plane lags in order of i² + j², their rows and columns,
     those i² + j², the index of each among the distinct values, the distinct values) for an
     autocorrelation of ``shape`` on a square lattice (``_lag_lattice``'s half-plane); the
-    lags out to a radius are a prefix (read-only, shared). Within one i² + j² the lags keep their flat order, so the
-    sums over them are those of a bincount over the whole array."""
+    lags out to a radius are a prefix (read-only, shared). Within one i² + j² the lags keep
+    their flat order, so the sums over them are those of a bincount over the whole array."""
     _, _, half, keys = _lag_lattice(shape)
     flat = np.flatnonzero(half)
     order = flat[np.argsort(keys.ravel()[flat], kind="stable")]
