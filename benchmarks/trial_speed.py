@@ -376,8 +376,9 @@ def main() -> None:
                           f"peak {timed['peak'] / field_bytes:5.1f} field-sized arrays")
                 yardstick = three_stage_times(grid, args.trials)
                 hand_written[backend, grid] = yardstick["ratio_floor"]
-                print(f"  {backend:6s} grid {grid:5d} hand-written three-stage trial: {yardstick['trial'] * 1e3:8.1f} ms, "
-                      f"3 fft2 {yardstick['floor'] * 1e3:7.1f} ms, ratio {yardstick['ratio_floor']:5.2f}")
+                print(f"  {backend:6s} grid {grid:5d} hand-written three-stage trial: "
+                      f"{yardstick['trial'] * 1e3:8.1f} ms, 3 fft2 {yardstick['floor'] * 1e3:7.1f} ms, "
+                      f"ratio {yardstick['ratio_floor']:5.2f}")
         use_fft_backend("scipy")
         if args.fixed_trials > 0:
             shares = {spec: _fixed_share(folder, spec, args.fixed_trials) for spec in ("field", "example")}
@@ -400,7 +401,8 @@ def _print_targets(per_trial: list, hand_written: dict, study: dict | None, refe
               f"{len(per_trial)} lines" + (f"; missed: {', '.join(missed)}" if missed else ""))
         yardsticks = [f"{backend} {grid} {ratio:.2f}" for (backend, grid), ratio in hand_written.items() if grid >= 512]
         if yardsticks:
-            print(f"  the hand-written three-stage trial at 512 and above, against the same floor: {', '.join(yardsticks)}")
+            print("  the hand-written three-stage trial at 512 and above, against the same floor: "
+                  + ", ".join(yardsticks))
     if study is not None:
         print(f"  from the second core >= 1.8: {_verdict(study['gain'] >= 1.8)} ({study['gain']:.2f}); "
               f"10,000 trials under 10 min: {_verdict(study['projected_min'] < 10)} "

@@ -58,8 +58,8 @@ def test_simulate_speed_prints_its_ratios():
 def test_the_hand_written_trial_keeps_the_power_its_iris_passes():
     """The yardstick trial of ``trial_speed.py`` does a real trial's work: with its iris opened
     past the window, each unimodular chirp and each unnormalised 2-D DFT keep Σ|u|² (times N²
-    a transform: Parseval's theorem for the DFT, e.g. Oppenheim and Schafer, Discrete-Time
-    Signal Processing (2010), eq. 8.64), so all the power reaches the camera; and the
+    a transform: Parseval's relation for the DFT, Oppenheim and Schafer, Discrete-Time Signal
+    Processing, ch. 8; from memory), so all the power reaches the camera; and the
     nominal trial's field is its target (mode purity 1, Cauchy–Schwarz equality)."""
     sys.path.insert(0, str(BENCHMARKS))
     try:
